@@ -1,0 +1,1 @@
+"""Command line: thin wrappers, one module per command (see ``main.COMMANDS``)."""

@@ -1,0 +1,90 @@
+"""Entry point of the ``speccheck`` command: a group whose commands load on first use.
+
+Each command lives in its own module (``speccheck/cli/<name>.py``) exposing ``command``; it
+parses options, calls one library function, and turns results into output and an exit status.
+Heavy libraries are imported inside the commands, so ``speccheck --help`` stays fast.
+"""
+
+from __future__ import annotations
+
+import importlib
+import os
+import sys
+
+import click
+
+from speccheck._version import __version__
+from speccheck.errors import ExitStatus, SpeccheckError
+
+# command name -> (module, one-line help shown by --help without importing the module)
+COMMANDS: dict[str, tuple[str, str]] = {
+    "demo": ("speccheck.cli.demo", "Build the demo data set and run the whole job on it."),
+    "info": ("speccheck.cli.info", "Describe a measured profile file (points, spacing, dropouts, hash)."),
+    "params": ("speccheck.cli.params", "Compute surface-texture parameters of a profile."),
+    "check": ("speccheck.cli.check", "Check profiles against a specification file: verdict and exit status."),
+    "explain": ("speccheck.cli.explain", "Say in plain words what each requirement of a spec asks for."),
+    "lint": ("speccheck.cli.lint", "Find mistakes and risky choices in specification files."),
+    "schema": ("speccheck.cli.schema", "Print the JSON Schema of specification files."),
+    "verify": ("speccheck.cli.verify", "Verify a signed conformance record and recompute its result."),
+    "key": ("speccheck.cli.key", "Make a signing key and certificate (PKCS#12)."),
+    "lot": ("speccheck.cli.lot", "Inspect a lot of parts under a sampling plan."),
+    "records": ("speccheck.cli.records", "List, show, export, audit and trend the records store."),
+}
+
+
+class LazyGroup(click.Group):
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return list(COMMANDS)
+
+    def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        if cmd_name not in COMMANDS:
+            return None
+        module = importlib.import_module(COMMANDS[cmd_name][0])
+        return module.command
+
+    def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
+        rows = [(name, help_) for name, (_, help_) in COMMANDS.items()]
+        with formatter.section("Commands"):
+            formatter.write_dl(rows)
+
+
+@click.group(
+    cls=LazyGroup,
+    context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100},
+)
+@click.version_option(__version__, "--version", prog_name="speccheck")
+def cli() -> None:
+    """Decide whether measured surface profiles meet a surface-finish specification.
+
+    Exit status: 0 conforming, 1 nonconforming, 3 undecided (measure again), 2 error.
+    The governing drawing, contract and applicable standards take precedence over this tool.
+    """
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; returns (and, as a script, exits with) the exit status."""
+    try:
+        rv = cli.main(args=argv, prog_name="speccheck", standalone_mode=False)
+    except SpeccheckError as exc:
+        click.echo(f"speccheck: error: {exc.one_line()}", err=True)
+        rv = ExitStatus.ERROR
+    except click.exceptions.Abort:
+        click.echo("speccheck: aborted", err=True)
+        rv = ExitStatus.ERROR
+    except click.ClickException as exc:
+        exc.show()
+        rv = ExitStatus.ERROR if exc.exit_code in (1, 2) else exc.exit_code
+    except KeyboardInterrupt:
+        click.echo("speccheck: interrupted", err=True)
+        rv = ExitStatus.ERROR
+    except Exception as exc:  # a bug, not bad input: one line, traceback on request
+        if os.environ.get("SPECCHECK_DEBUG"):
+            raise
+        msg = " ".join(f"{type(exc).__name__}: {exc}".split())
+        click.echo(f"speccheck: internal error: {msg} (set SPECCHECK_DEBUG=1 for a traceback)", err=True)
+        rv = ExitStatus.ERROR
+    if rv is None:
+        rv = 0
+    if __name__ == "__main__" or argv is None:
+        sys.exit(int(rv))
+    return int(rv)

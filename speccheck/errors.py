@@ -1,0 +1,73 @@
+"""One error hierarchy and the exit statuses of the command line.
+
+Every error that bad input can cause is a :class:`SpeccheckError`. It carries the file and
+the place inside it (``line 12``, ``line 3, col 7``, ``key requirements[0].limit``,
+``record 17``) so the command line can print one line ``FILE:PLACE: message`` and exit 2.
+"""
+
+from __future__ import annotations
+
+from enum import IntEnum
+
+__all__ = [
+    "ExitStatus",
+    "SpeccheckError",
+    "InputError",
+    "SpecError",
+    "ReportError",
+    "RecordsError",
+]
+
+
+class ExitStatus(IntEnum):
+    """Exit statuses: the check's outcome is kept apart from the tool failing."""
+
+    CONFORMING = 0
+    NONCONFORMING = 1
+    ERROR = 2
+    UNDECIDED = 3
+
+
+class SpeccheckError(Exception):
+    """Base of all errors caused by input; printed as one line, exit status 2.
+
+    Parameters
+    ----------
+    message:
+        What is wrong, in words a technician understands.
+    path:
+        The file concerned, if any.
+    where:
+        The place inside the file: ``"line 12"``, ``"line 3, col 7"``, ``"key a.b"``, ...
+    """
+
+    def __init__(self, message: str, *, path: str | None = None, where: str | None = None):
+        super().__init__(message)
+        self.message = message
+        self.path = path
+        self.where = where
+
+    def one_line(self) -> str:
+        """``FILE:PLACE: message`` (parts that are unknown are left out), never multi-line."""
+        head = ":".join(p for p in (self.path, self.where) if p)
+        text = f"{head}: {self.message}" if head else self.message
+        return " ".join(text.split())
+
+    def __str__(self) -> str:
+        return self.one_line()
+
+
+class InputError(SpeccheckError):
+    """A measured-profile file that cannot be read as it claims to be."""
+
+
+class SpecError(SpeccheckError):
+    """A specification or inspection-plan file that is not valid."""
+
+
+class ReportError(SpeccheckError):
+    """A report that cannot be written, signed or verified as a report."""
+
+
+class RecordsError(SpeccheckError):
+    """A records database that cannot be opened or written."""

@@ -1,0 +1,101 @@
+"""The result of checking measurements against a specification: a plain data model.
+
+This is the contract between the evaluator (which fills it), the report and records layers
+(which read it) and other tools (which read its JSON). The JSON form is ``to_dict()``; field
+names in it are stable. Every number carries its unit in a sibling ``unit`` field or in its name.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass, field
+from typing import Any, Literal
+
+__all__ = [
+    "Verdict",
+    "Zone",
+    "ValueRecord",
+    "RequirementResult",
+    "MeasurementRecord",
+    "CheckResult",
+    "RESULT_FORMAT_VERSION",
+]
+
+RESULT_FORMAT_VERSION = 1
+
+Verdict = Literal["conforming", "nonconforming", "undecided"]
+# ISO 14253-1 zones of one measured value relative to one limit and its expanded uncertainty U:
+# "within": inside the specification by more than U; "uncertain": within ±U of a limit;
+# "outside": beyond a limit by more than U. With U = 0 "uncertain" never occurs.
+Zone = Literal["within", "uncertain", "outside"]
+
+
+@dataclass
+class ValueRecord:
+    """One measured value of one requirement's parameter."""
+
+    measurement: int  # index into CheckResult.measurements
+    value: float | None  # None when the measurement could not be evaluated
+    unit: str
+    zone: Zone | None = None
+    counts_as: Literal["within", "exceeding"] | None = None  # after the decision rule
+    section: int | None = None  # set when values are taken per section
+    note: str | None = None
+
+
+@dataclass
+class RequirementResult:
+    text: str  # the callout as written, or a rendering of the structured form
+    parameter: str  # canonical name: "Ra", "Rz3", "Rmr(0.5)", "Rpk", ...
+    upper: float | None
+    lower: float | None
+    unit: str
+    rule: Literal["16%", "max"]
+    decision_rule: Literal["simple", "guarded-acceptance", "guarded-rejection"]
+    uncertainty: float | None  # expanded uncertainty U (k = 2) in `unit`, or None
+    verdict: Verdict
+    reason: str | None  # machine-readable: "more-measurements", "uncertainty-range", ...
+    explanation: str  # one sentence for people
+    next: str | None  # what to do next, spelled out; None when decided
+    values: list[ValueRecord] = field(default_factory=list)
+    conditions: dict[str, Any] = field(default_factory=dict)  # lambda_c_mm, lambda_s_um, sections, ...
+    diagnostics: list[dict[str, Any]] = field(default_factory=list)
+
+
+@dataclass
+class MeasurementRecord:
+    index: int
+    path: str | None
+    sha256: str | None
+    format: str | None
+    points: int
+    spacing_um: float
+    length_mm: float
+    status: Literal["evaluated", "insufficient-data", "other-conditions", "dropouts"]
+    reason: str | None = None
+    dropouts: dict[str, Any] = field(default_factory=dict)
+    parameters: dict[str, dict[str, Any]] = field(default_factory=dict)  # name -> {value, unit}
+
+
+@dataclass
+class CheckResult:
+    verdict: Verdict
+    reason: str | None
+    requirements: list[RequirementResult]
+    measurements: list[MeasurementRecord]
+    spec: dict[str, Any]  # path, sha256, part, revision, surface, convention, ...
+    software: dict[str, str]  # name, version
+    created: str  # ISO 8601 UTC
+    format_version: int = RESULT_FORMAT_VERSION
+
+    def to_dict(self) -> dict[str, Any]:
+        return asdict(self)
+
+    @classmethod
+    def from_dict(cls, d: dict[str, Any]) -> CheckResult:
+        reqs = [
+            RequirementResult(**{**r, "values": [ValueRecord(**v) for v in r.get("values", [])]})
+            for r in d["requirements"]
+        ]
+        meas = [MeasurementRecord(**m) for m in d["measurements"]]
+        rest = {k: v for k, v in d.items() if k not in ("requirements", "measurements")}
+        return cls(requirements=reqs, measurements=meas, **rest)

@@ -1,0 +1,1 @@
+"""speccheck.readers"""

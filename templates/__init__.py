@@ -1,0 +1,1 @@
+"""HTML/CSS templates of the conformance record; installed as ``speccheck.templates``."""
