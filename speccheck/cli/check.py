@@ -1,0 +1,231 @@
+"""``speccheck check SPEC PROFILE...``: verdicts and exit status (calls evaluation.evaluate).
+
+Exit status 0 conforming, 1 nonconforming, 3 undecided, 2 error. Optional: the result as JSON,
+a (signed) PDF conformance record, an entry in the records store.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import sys
+from pathlib import Path
+from typing import Any
+
+import click
+
+from speccheck.cli.options import (
+    decimal_option,
+    dx_option,
+    format_option,
+    json_out_option,
+    write_json,
+)
+from speccheck.errors import ExitStatus, SpeccheckError
+
+__all__ = ["command", "render_table", "CAUTION"]
+
+EXIT = {
+    "conforming": ExitStatus.CONFORMING,
+    "nonconforming": ExitStatus.NONCONFORMING,
+    "undecided": ExitStatus.UNDECIDED,
+}
+CAUTION = (
+    "Caution: the governing drawing, the contract and the applicable standards take precedence; "
+    "the result is only as good as the instrument's calibration and the measurement, and parts "
+    "are released by qualified personnel."
+)
+_STYLE = {"conforming": "green", "nonconforming": "bold red", "undecided": "yellow"}
+
+
+def _num(x: float | None) -> str:
+    if x is None or not math.isfinite(x):
+        return "–"
+    return f"{x:.4g}"
+
+
+def _values_text(req: Any) -> str:
+    out = []
+    for v in req.values:
+        if v.value is None:
+            out.append("not evaluated")
+            continue
+        mark = " (exceeding)" if v.counts_as == "exceeding" else ""
+        if v.zone == "uncertain" and v.counts_as != "exceeding":
+            mark = " (within U)"
+        out.append(f"{_num(v.value)}{mark}")
+    return ", ".join(out) or "none"
+
+
+def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
+    """The plain-text report of a CheckResult: one row per requirement, next steps, caution.
+
+    The words carry the meaning (CONFORMING, NONCONFORMING, UNDECIDED); colour, when asked
+    for, only helps.
+    """
+    import io
+
+    from rich.console import Console
+    from rich.table import Table
+    from rich.text import Text
+
+    console = Console(
+        file=io.StringIO(),
+        record=True,
+        width=width,
+        highlight=False,
+        force_terminal=color,
+        no_color=not color,
+    )
+    sp = result.spec
+    title = " ".join(
+        str(x)
+        for x in (
+            sp.get("part"),
+            sp.get("revision") and f"rev {sp['revision']}",
+            sp.get("surface") and f"– {sp['surface']}",
+        )
+        if x
+    )
+    table = Table(title=f"Surface finish check {title}".strip(), title_justify="left", expand=False)
+    table.add_column("#", justify="right")
+    table.add_column("requirement")
+    table.add_column("values", overflow="fold")
+    table.add_column("rule")
+    table.add_column("verdict")
+    for i, req in enumerate(result.requirements, start=1):
+        unit = f" {req.unit}" if req.unit else ""
+        rule = "16 %" if req.rule == "16%" else "max"
+        if req.uncertainty is not None:
+            rule += f", {req.decision_rule}, U {_num(req.uncertainty)}{unit}"
+        verdict = Text(req.verdict.upper(), style=_STYLE[req.verdict])
+        table.add_row(str(i), req.text, f"{_values_text(req)}{unit}", rule, verdict)
+    console.print(table)
+    console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
+    for i, req in enumerate(result.requirements, start=1):
+        if req.next:
+            console.print(f"Next for #{i} ({req.text}): {req.next}.")
+        elif req.reason == "uncertainty-range":
+            console.print(f"Note on #{i} ({req.text}): {req.explanation}")
+    for m in result.measurements:
+        if m.status != "evaluated":
+            name = Path(m.path).name if m.path else f"profile {m.index + 1}"
+            console.print(f"Measurement {m.index + 1} ({name}) not evaluated: {m.reason}.")
+    console.print(CAUTION)
+    text = console.export_text(styles=color)
+    return "".join(line.rstrip() + "\n" for line in text.splitlines())
+
+
+@click.command(name="check")
+@click.argument("spec", type=click.Path(dir_okay=False))
+@click.argument("profiles", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@json_out_option()
+@format_option
+@dx_option
+@decimal_option
+@click.option(
+    "--report",
+    "report_out",
+    metavar="OUT.pdf",
+    default=None,
+    help="Write the conformance record as PDF.",
+)
+@click.option(
+    "--sign", "sign_p12", metavar="KEY.p12", default=None, help="Sign the record with this key."
+)
+@click.option(
+    "--passphrase-file",
+    metavar="FILE",
+    default=None,
+    help="File whose first line is the key's passphrase (else $SPECCHECK_PASSPHRASE).",
+)
+@click.option("--record", "record", is_flag=True, help="Append the result to the records store.")
+@click.option(
+    "--db",
+    metavar="PATH",
+    default=None,
+    help="Records store (default $SPECCHECK_DB or ./speccheck-records.sqlite).",
+)
+def command(
+    spec: str,
+    profiles: tuple[str, ...],
+    json_out: str | None,
+    fmt: str | None,
+    dx: str | None,
+    decimal: str,
+    report_out: str | None,
+    sign_p12: str | None,
+    passphrase_file: str | None,
+    record: bool,
+    db: str | None,
+) -> int:
+    """Check measured PROFILES against the specification file SPEC.
+
+    Profiles are taken in measurement order. Prints one verdict per requirement and overall
+    (conforming, nonconforming, undecided) and what to measure next. Exit status: 0 conforming,
+    1 nonconforming, 3 undecided, 2 error. Calls speccheck.evaluation.load_inputs and evaluate.
+    """
+    if sign_p12 and not report_out:
+        raise SpeccheckError("--sign needs --report OUT.pdf")
+    if db and not record:
+        raise SpeccheckError("--db needs --record")
+    from speccheck.evaluation.evaluator import evaluate, load_inputs
+
+    loaded, measured = load_inputs(spec, list(profiles), fmt=fmt, dx=dx, decimal=decimal)
+    result = evaluate(loaded, measured)
+    if json_out is not None:
+        write_json(result.to_dict(), json_out)
+    if json_out != "-":
+        color = sys.stdout.isatty() and "NO_COLOR" not in os.environ
+        click.echo(render_table(result, color=color), nl=False)
+    report_sha256 = signer = None
+    if report_out:
+        options = {"fmt": fmt, "dx": dx, "decimal": decimal}
+        info = _write_report(
+            result, loaded, profiles, report_out, sign_p12, passphrase_file, options
+        )
+        report_sha256 = getattr(info, "sha256", None)
+        signer = getattr(info, "signer", None)
+        if json_out != "-":
+            click.echo(
+                f"Conformance record written: {report_out}"
+                + (f" (signed by {signer})" if signer else " (not signed)")
+            )
+    if record:
+        rid = _append_record(result, db, report_sha256, signer)
+        if json_out != "-":
+            click.echo(f"Recorded as entry {rid} in the records store.")
+    return int(EXIT[result.verdict])
+
+
+def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, options) -> Any:
+    try:
+        from speccheck.report import write_report  # type: ignore[attr-defined]
+    except ImportError:
+        try:
+            from speccheck.report.writer import write_report
+        except ImportError as exc:
+            raise SpeccheckError("report support not available in this installation") from exc
+    passphrase = None
+    if sign_p12:
+        from speccheck.report.signing import read_passphrase
+
+        passphrase = read_passphrase(Path(passphrase_file) if passphrase_file else None)
+    return write_report(
+        result,
+        out_path=Path(out),
+        spec=loaded,
+        profile_paths=[Path(p) for p in profiles],
+        sign_p12=Path(sign_p12) if sign_p12 else None,
+        passphrase=passphrase,
+        read_options=options,
+    )
+
+
+def _append_record(result, db, report_sha256, signer) -> Any:
+    try:
+        from speccheck.records.store import RecordsStore, default_db_path
+    except ImportError as exc:
+        raise SpeccheckError("records support not available in this installation") from exc
+    with RecordsStore.open(default_db_path(db)) as store:
+        return store.append_check(result, report_sha256=report_sha256, signer=signer)

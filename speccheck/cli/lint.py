@@ -1,0 +1,31 @@
+"""``speccheck lint SPEC...``: errors and warnings in specification files.
+
+Calls :func:`speccheck.spec.lint.lint_paths`. Prints ``FILE:LINE:COL: message`` per error and
+``FILE:LINE:COL: warning: message`` per warning; exit status 2 if any file has an error, else 0.
+"""
+
+from __future__ import annotations
+
+import click
+
+from speccheck.errors import ExitStatus
+
+
+@click.command("lint")
+@click.argument("specs", nargs=-1, required=True, type=click.Path(dir_okay=False))
+def command(specs: tuple[str, ...]) -> int:
+    """Find mistakes (exit 2) and risky choices (warnings, exit 0) in specification files."""
+    from speccheck.spec.lint import lint_file
+
+    failed = False
+    for spec in specs:
+        findings = lint_file(spec)
+        for finding in findings:
+            click.echo(str(finding))
+        errors = sum(f.severity == "error" for f in findings)
+        warnings = len(findings) - errors
+        failed = failed or errors > 0
+        if not errors:
+            tail = f", {warnings} warning{'s' if warnings != 1 else ''}" if warnings else ""
+            click.echo(f"{spec}: ok{tail}")
+    return int(ExitStatus.ERROR if failed else 0)

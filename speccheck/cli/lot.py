@@ -1,0 +1,144 @@
+"""``speccheck lot``: inspect a lot under an inspection plan (calls lot.runner.inspect_lot)."""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+from speccheck.cli.options import json_out_option, write_json
+
+__all__ = ["command", "db_option"]
+
+db_option = click.option(
+    "--db",
+    default=None,
+    metavar="PATH",
+    help="Records store (default: $SPECCHECK_DB, else speccheck-records.sqlite here).",
+)
+
+
+def _progress_callback():
+    """A rich progress bar on stderr, started at the first report (only when stderr is a TTY)."""
+    if not sys.stderr.isatty():
+        return None, lambda: None
+    state: dict = {}
+
+    def report(done: int, total: int) -> None:
+        if "bar" not in state:
+            from rich.console import Console
+            from rich.progress import Progress
+
+            bar = Progress(console=Console(stderr=True), transient=True)
+            bar.start()
+            state["bar"], state["task"] = bar, bar.add_task("evaluating parts", total=total)
+        state["bar"].update(state["task"], completed=done)
+
+    def stop() -> None:
+        if "bar" in state:
+            state["bar"].stop()
+
+    return report, stop
+
+
+@click.command(name="lot")
+@click.argument("plan", type=click.Path(dir_okay=False))
+@click.option(
+    "--data",
+    "data_dir",
+    required=True,
+    type=click.Path(file_okay=False),
+    help="Folder of the profiles.",
+)
+@click.option(
+    "--report", "report_out", default=None, metavar="OUT.pdf", help="Write the lot report (PDF)."
+)
+@click.option(
+    "--sign", "sign_p12", default=None, metavar="KEY.p12", help="Sign the report with this key."
+)
+@click.option(
+    "--passphrase-file",
+    default=None,
+    metavar="FILE",
+    help="First line: the key's passphrase (else $SPECCHECK_PASSPHRASE).",
+)
+@json_out_option("Write the lot result as JSON to FILE ('-' for standard output).")
+@click.option("--record", is_flag=True, help="Append the lot result to the records store.")
+@db_option
+@click.option(
+    "--workers",
+    type=click.IntRange(min=1),
+    default=None,
+    help="Worker processes (default: all cores).",
+)
+def command(
+    plan: str,
+    data_dir: str,
+    report_out: str | None,
+    sign_p12: str | None,
+    passphrase_file: str | None,
+    json_out: str | None,
+    record: bool,
+    db: str | None,
+    workers: int | None,
+) -> int:
+    """Evaluate every sampled part of a lot and accept or reject the lot.
+
+    A part is nonconforming if any surface is; the lot is accepted with at most c nonconforming
+    parts in the sample (c from the plan) and undecided while parts to measure again could
+    change that. Exit status: 0 accept, 1 reject, 3 undecided, 2 error.
+    Calls speccheck.lot.plan.load_plan and speccheck.lot.runner.inspect_lot.
+    """
+    from pathlib import Path
+
+    from speccheck.errors import SpeccheckError
+    from speccheck.lot.plan import load_plan
+    from speccheck.lot.runner import inspect_lot
+
+    if sign_p12 and not report_out:
+        raise SpeccheckError("--sign needs --report OUT.pdf (the signature goes on the report)")
+    loaded = load_plan(plan)
+    report, stop = _progress_callback()
+    try:
+        result = inspect_lot(loaded, data_dir, workers=workers, progress=report)
+    finally:
+        stop()
+    report_sha256 = signer = None
+    if report_out:
+        from speccheck.lot.report import write_lot_report
+        from speccheck.report.signing import read_passphrase
+
+        passphrase = (
+            read_passphrase(Path(passphrase_file) if passphrase_file else None)
+            if sign_p12
+            else None
+        )
+        report_sha256 = write_lot_report(
+            result,
+            out_path=report_out,
+            plan_raw=loaded.raw,
+            sign_p12=sign_p12,
+            passphrase=passphrase,
+        )
+        if sign_p12:
+            from speccheck.report.signing import signer_identity
+
+            signer = signer_identity(Path(sign_p12), passphrase).name
+    if json_out:
+        write_json(result.to_dict(), json_out)
+    if record:
+        from speccheck.records.store import RecordsStore, default_db_path
+
+        with RecordsStore.open(default_db_path(db)) as store:
+            rid = store.append_lot(result, report_sha256=report_sha256, signer=signer)
+        click.echo(f"recorded as record {rid} in {default_db_path(db)}", err=True)
+    lot = result.lot
+    if json_out != "-":
+        click.echo(f"{lot['part']} lot {lot['id']}: {result.disposition.upper()} — {result.reason}")
+        for part in result.parts:
+            click.echo(f"  {part.serial:<16} {part.verdict}")
+        if result.remeasure:
+            click.echo(f"measure again: {', '.join(result.remeasure)}")
+        if report_out:
+            click.echo(f"report written to {report_out}")
+    return int(result.exit_status)

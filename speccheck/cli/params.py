@@ -1,0 +1,266 @@
+"""``speccheck params FILE``: surface-texture parameters of one profile.
+
+Calls speccheck.readers.read_profile, speccheck.profile.fill_dropouts,
+speccheck.parameters.cutoff.choose_lambda_c (no --cutoff) and
+speccheck.parameters.compute.compute_parameters.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+import click
+
+from speccheck.cli.options import cutoff_option, decimal_option, dx_option, format_option, json_flag
+from speccheck.errors import ExitStatus, InputError, SpeccheckError
+
+__all__ = ["command"]
+
+_FILTERS = ("gaussian", "robust", "robust-order0", "iso13565-1")
+_FORMS = ("line", "arc", "poly2", "poly3", "poly4", "poly5", "poly6", "none")
+
+# Families for the table, in order: (heading, base names of speccheck.parameters.names)
+_FAMILIES = (
+    ("Amplitude (ISO 4287)", ("a", "q", "sk", "ku")),
+    ("Peaks and valleys (ISO 4287)", ("p", "v", "z", "t", "z1max")),
+    ("Spacing and slope (ISO 4287)", ("c", "Sm", "dq")),
+    ("Material ratio (ISO 4287)", ("mr", "dc")),
+    ("Stratified surfaces (ISO 13565-2)", ("k", "pk", "vk", "mr1", "mr2", "A1", "A2")),
+    ("Probability curve (ISO 13565-3)", ("pq", "vq", "mq")),
+    ("ASME B46.1", ("pm", "vm", "max", "pc")),
+)
+
+_OPTION_OF_KEY = {
+    "key lambda_c_mm": "option --cutoff",
+    "key lambda_s_um": "option --ls",
+    "key lambda_f_mm": "option --lf",
+    "key sections": "option --sections",
+}
+
+
+def _length_um(text: str, option: str) -> float:
+    from speccheck.units import parse_length
+
+    try:
+        value = parse_length(text).um
+    except SpeccheckError as exc:
+        raise SpeccheckError(exc.message, where=f"option {option}") from None
+    if not value > 0:
+        raise SpeccheckError(f"{text!r} must be a positive length", where=f"option {option}")
+    return value
+
+
+def _fmt(value: float | None) -> str:
+    return "–" if value is None else f"{value:.4g}"
+
+
+@click.command(name="params")
+@click.argument("file", type=click.Path(dir_okay=False))
+@cutoff_option
+@click.option(
+    "--ls",
+    "ls",
+    default=None,
+    metavar="LENGTH|none",
+    help="Short-wave cut-off λs, e.g. 2.5um, or 'none' (default: ISO 3274 for λc).",
+)
+@click.option(
+    "--lf", "lf", default=None, metavar="LENGTH", help="Long-wave cut-off λf for --profile W."
+)
+@click.option(
+    "--sections",
+    type=click.IntRange(min=1),
+    default=5,
+    show_default=True,
+    help="Sections in the evaluation length.",
+)
+@click.option(
+    "--filter",
+    "filter_",
+    type=click.Choice(_FILTERS),
+    default="gaussian",
+    show_default=True,
+    help="Mean-line filter.",
+)
+@click.option(
+    "--profile",
+    "kind",
+    type=click.Choice(["R", "W", "P"]),
+    default="R",
+    show_default=True,
+    help="Roughness, waviness or primary profile.",
+)
+@click.option(
+    "--form",
+    type=click.Choice(_FORMS),
+    default="line",
+    show_default=True,
+    help="Nominal form removed first.",
+)
+@click.option(
+    "--param",
+    "extra",
+    multiple=True,
+    metavar="NAME",
+    help="Also compute a parametrised parameter, e.g. 'Rmr(0.5)' or 'Rdc(20-80)'.",
+)
+@format_option
+@dx_option
+@decimal_option
+@json_flag
+def command(
+    file: str,
+    cutoff: str | None,
+    ls: str | None,
+    lf: str | None,
+    sections: int,
+    filter_: str,
+    kind: str,
+    form: str,
+    extra: tuple[str, ...],
+    fmt: str | None,
+    dx: str | None,
+    decimal: str,
+    as_json: bool,
+) -> int:
+    """Compute the surface-texture parameters of the profile in FILE.
+
+    Without --cutoff, λc follows the ISO 4288 procedure on Ra and the output says so.
+    Exit status 3 when the trace is too short for the conditions.
+    """
+    from speccheck.parameters.compute import InsufficientData, compute_parameters
+    from speccheck.parameters.conditions import Conditions
+    from speccheck.parameters.cutoff import choose_lambda_c, lambda_s_for
+    from speccheck.profile import fill_dropouts
+    from speccheck.readers import read_profile
+
+    ls_value: Any = (
+        "table" if ls is None else None if ls.strip().lower() == "none" else _length_um(ls, "--ls")
+    )
+    lf_mm = None if lf is None else _length_um(lf, "--lf") / 1000.0
+    profile = fill_dropouts(read_profile(file, fmt=fmt, dx=dx, decimal=decimal))
+    if not profile.dropouts.usable:
+        a, b = profile.dropouts.refused_gaps_mm[0]
+        raise InputError(
+            f"gap of invalid points too long to bridge at x {a:g}–{b:g} mm; "
+            f"this profile cannot be evaluated",
+            path=file,
+        )
+    z, dx_um = profile.z_um, profile.dx_um
+    if cutoff is not None:
+        lambda_c_mm = _length_um(cutoff, "--cutoff") / 1000.0
+        choice: dict[str, Any] = {"source": "--cutoff"}
+    else:
+        try:
+            sel = choose_lambda_c(
+                z, dx_um=dx_um, lambda_s_um=ls_value, sections=sections, filter=filter_, form=form
+            )
+        except SpeccheckError as exc:
+            raise SpeccheckError(f"default cut-off: {exc.message}", path=file) from None
+        if isinstance(sel, InsufficientData):
+            return _insufficient(file, sel, as_json)
+        lambda_c_mm = sel.lambda_c_mm
+        choice = {
+            "source": "ISO 4288:1996 clause 7 procedure on Ra",
+            "settled": sel.selection.settled,
+            "message": sel.selection.message,
+            "estimate": {"lambda_c_mm": sel.estimate_lambda_c_mm, "Ra_um": sel.estimate_um},
+            "steps": [
+                {"lambda_c_mm": s.lambda_c_mm, "Ra_um": s.measured_um} for s in sel.selection.steps
+            ],
+        }
+    try:
+        lambda_s_um = lambda_s_for(lambda_c_mm, ls_value)
+    except SpeccheckError as exc:
+        raise SpeccheckError(exc.message, where="option --cutoff") from None
+    try:
+        conditions = Conditions(
+            lambda_c_mm,
+            lambda_s_um,
+            lambda_f_mm=lf_mm,
+            sections=sections,
+            filter=filter_,
+            form=form,
+            profile=kind,
+        )
+        result = compute_parameters(z, dx_um=dx_um, conditions=conditions, extra=extra)
+    except SpeccheckError as exc:
+        raise SpeccheckError(
+            exc.message, where=_OPTION_OF_KEY.get(exc.where or "", "options")
+        ) from None
+    except ValueError as exc:
+        raise SpeccheckError(str(exc), where="option --param") from None
+    if isinstance(result, InsufficientData):
+        return _insufficient(file, result, as_json)
+    out = result.to_dict()
+    out["cutoff_choice"] = choice
+    src = profile.source
+    out["source"] = {"path": src.path, "sha256": src.sha256, "format": src.format}
+    if as_json:
+        click.echo(json.dumps(out, indent=2, ensure_ascii=False, allow_nan=False))
+    else:
+        _print_table(out)
+    return int(ExitStatus.CONFORMING)
+
+
+def _insufficient(file: str, res: Any, as_json: bool) -> int:
+    if as_json:
+        click.echo(
+            json.dumps(
+                {
+                    "insufficient_data": {
+                        "reason": res.reason,
+                        "required_mm": res.required_mm,
+                        "available_mm": res.available_mm,
+                    }
+                },
+                ensure_ascii=False,
+            )
+        )
+    click.echo(f"speccheck: insufficient data: {file}: {res.reason}", err=True)
+    return int(ExitStatus.UNDECIDED)
+
+
+def _print_table(out: dict[str, Any]) -> None:
+    from rich.console import Console
+    from rich.table import Table
+
+    from speccheck.parameters.names import parse_parameter_name
+
+    c, params, sections = out["conditions"], out["parameters"], out["sections"]
+    console = Console(highlight=False, width=200)
+    ls = "none" if c.get("lambda_s_um") is None else f"{c['lambda_s_um']:g} µm"
+    lf = f", λf {c['lambda_f_mm']:g} mm" if c.get("lambda_f_mm") else ""
+    src = out["source"]
+    console.print(f"{src['path']}  ({src['format']}, sha256 {src['sha256'][:12]}…)")
+    console.print(
+        f"λc {c['lambda_c_mm']:g} mm, λs {ls}{lf}, "
+        f"evaluation length {c['evaluation_length_mm']:g} mm in {c['sections']} sections, "
+        f"{c['filter']} filter, form {c['form']}, profile {c['profile']}"
+    )
+    choice = out["cutoff_choice"]
+    if choice["source"] != "--cutoff":
+        est = choice["estimate"]
+        console.print(
+            f"λc chosen by the {choice['source']}: estimate Ra {est['Ra_um']:.4g} µm at "
+            f"λc {est['lambda_c_mm']:g} mm; {choice['message']}"
+        )
+    table = Table(box=None, pad_edge=False)
+    for col in ("parameter", "value", "unit", *(f"s{i + 1}" for i in range(len(sections)))):
+        table.add_column(col, justify="left" if col in ("parameter", "unit") else "right")
+    for heading, bases in _FAMILIES:
+        rows = [n for n in params if (p := parse_parameter_name(n)) is not None and p.base in bases]
+        if not rows:
+            continue
+        table.add_row(f"[bold]{heading}[/bold]")
+        for name in rows:
+            per = (
+                [_fmt(s[name]["value"]) if name in s else "" for s in sections]
+                if len(sections) > 1
+                else []
+            )
+            table.add_row(f"  {name}", _fmt(params[name]["value"]), params[name]["unit"], *per)
+    console.print(table)
+    for note in out["notes"]:
+        console.print(f"note: {note}")

@@ -1,0 +1,174 @@
+"""``speccheck records``: list, show, export, audit and trend the records store.
+
+Each subcommand opens :class:`speccheck.records.store.RecordsStore` and calls one method
+(``list``, ``get``, ``export_csv``/``export_json``, ``audit``) or
+:func:`speccheck.records.trend.collect_trend`.
+"""
+
+from __future__ import annotations
+
+import json
+
+import click
+
+from speccheck.cli.lot import db_option
+
+__all__ = ["command"]
+
+
+def _open(db: str | None, *, create: bool = False):
+    from speccheck.records.store import RecordsStore, default_db_path
+
+    return RecordsStore.open(default_db_path(db), create=create)
+
+
+@click.group(name="records")
+def command() -> None:
+    """The append-only records store of checks and lots (SQLite, hash-chained).
+
+    The store is --db PATH, else $SPECCHECK_DB, else speccheck-records.sqlite here.
+    """
+
+
+@command.command(name="list")
+@db_option
+@click.option("--part", default=None, help="Only records of this part number.")
+@click.option("--kind", default=None, help="Only records of this kind (check, lot).")
+@click.option(
+    "--last", "limit", type=click.IntRange(min=1), default=None, help="Only the last N records."
+)
+@click.option("--json", "as_json", is_flag=True, help="Print JSON instead of a table.")
+def list_(
+    db: str | None, part: str | None, kind: str | None, limit: int | None, as_json: bool
+) -> int:
+    """List records: id, time, kind, part, verdict, start of the record hash."""
+    with _open(db) as store:
+        recs = store.list(part=part, kind=kind, limit=limit)
+    if as_json:
+        rows = [{k: v for k, v in r.to_dict().items() if k != "result"} for r in recs]
+        click.echo(json.dumps(rows, indent=2, ensure_ascii=False))
+        return 0
+    from rich.console import Console
+    from rich.table import Table
+
+    table = Table(box=None, pad_edge=False)
+    for col in ("id", "time (UTC)", "kind", "part", "verdict", "record hash"):
+        table.add_column(col, justify="right" if col == "id" else "left")
+    for r in recs:
+        table.add_row(
+            str(r.id),
+            r.time[:19].replace("T", " "),
+            r.kind,
+            r.part or "",
+            r.verdict,
+            r.record_hash[:16],
+        )
+    Console(width=120).print(table)
+    return 0
+
+
+@command.command(name="show")
+@click.argument("record_id", type=int)
+@db_option
+def show(record_id: int, db: str | None) -> int:
+    """Print one record as JSON (its result embedded)."""
+    with _open(db) as store:
+        rec = store.get(record_id)
+    click.echo(json.dumps(rec.to_dict(), indent=2, ensure_ascii=False))
+    return 0
+
+
+@command.command(name="export")
+@db_option
+@click.option("--csv", "csv_out", default=None, metavar="FILE", help="Write every record as CSV.")
+@click.option(
+    "--json",
+    "json_out",
+    default=None,
+    metavar="FILE",
+    help="Write every record as JSON ('-': stdout).",
+)
+def export(db: str | None, csv_out: str | None, json_out: str | None) -> int:
+    """Export every record as CSV and/or JSON (written atomically)."""
+    from speccheck.errors import SpeccheckError
+
+    if not csv_out and not json_out:
+        raise SpeccheckError("records export needs --csv FILE or --json FILE")
+    with _open(db) as store:
+        if csv_out:
+            n = store.export_csv(csv_out)
+            click.echo(f"{n} records written to {csv_out}", err=True)
+        if json_out:
+            n = store.export_json(json_out)
+            if json_out != "-":
+                click.echo(f"{n} records written to {json_out}", err=True)
+    return 0
+
+
+@command.command(name="audit")
+@db_option
+@click.option(
+    "--archive",
+    default=None,
+    type=click.Path(file_okay=False),
+    help="Folder of the original spec and profile files: re-evaluate and compare verdicts.",
+)
+@click.option("--json", "as_json", is_flag=True, help="Print the audit as JSON.")
+def audit(db: str | None, archive: str | None, as_json: bool) -> int:
+    """Check the hash chain (and verdicts, with --archive). Exit 0 intact, 1 tampering found."""
+    with _open(db) as store:
+        res = store.audit(archive)
+    if as_json:
+        click.echo(json.dumps(res.to_dict(), indent=2, ensure_ascii=False))
+    else:
+        for f in res.findings:
+            click.echo(f"{'TAMPERED' if f.tampering else 'note'}: {f.message}")
+        state = "intact" if res.intact else "NOT intact"
+        extra = f", {res.reevaluated} result(s) re-evaluated" if archive else ""
+        click.echo(f"{res.records} records, chain {state}{extra}; head {res.head_hash}")
+    return 0 if res.intact else 1
+
+
+@command.command(name="trend")
+@db_option
+@click.option("--part", required=True, help="Part number, e.g. KFP-2041.")
+@click.option("--param", "parameter", required=True, help="Parameter, e.g. Ra.")
+@click.option(
+    "--surface", default=None, help="Only this surface (lot surface name or spec surface)."
+)
+@click.option("--out", default=None, metavar="FILE.svg", help="Write the trend plot as SVG.")
+@click.option("--json", "as_json", is_flag=True, help="Print the values and indices as JSON.")
+def trend(
+    db: str | None, part: str, parameter: str, surface: str | None, out: str | None, as_json: bool
+) -> int:
+    """Values of one parameter over time against the limits, with Cp and Cpk."""
+    from pathlib import Path
+
+    from speccheck._atomic import atomic_write_text
+    from speccheck.records.trend import collect_trend, trend_svg
+
+    with _open(db) as store:
+        tr = collect_trend(store.list(part=part), part=part, parameter=parameter, surface=surface)
+    if out:
+        atomic_write_text(Path(out), trend_svg(tr))
+    if as_json:
+        click.echo(json.dumps(tr.to_dict(), indent=2, ensure_ascii=False))
+        return 0
+    cap = tr.capability
+    unit = f" {tr.unit}" if tr.unit else ""
+
+    def num(x: float | None) -> str:
+        return "–" if x is None else f"{x:.4g}"
+
+    click.echo(
+        f"{part} {parameter}: {cap.n} values, limits lower {num(tr.lower)} upper {num(tr.upper)}{unit}"
+    )
+    click.echo(
+        f"mean {num(cap.mean)}{unit}, s {num(cap.sd)}{unit}, Cp {num(cap.cp)}, Cpk {num(cap.cpk)}"
+    )
+    click.echo(cap.note)
+    for note in tr.notes:
+        click.echo(note)
+    if out:
+        click.echo(f"plot written to {out}", err=True)
+    return 0

@@ -1,0 +1,654 @@
+"""Apply a specification to measured profiles: values, acceptance rule, decision rule, verdict.
+
+One measured value is one profile's parameter over its evaluation length (or one value per
+section when the spec says ``measurement.value_per: section``). For every requirement:
+
+1. measurement conditions from the requirement (λc, λs, sections, filter, form, profile letter);
+   parameters are computed once per distinct conditions per profile;
+2. a measurement is *not evaluated* for that requirement, and its value is unknown, when the
+   profile has dropout gaps too wide to bridge (``dropouts``), its sampling spacing is coarser
+   than ISO 3274 allows for the λc (``other-conditions``), its trace is too short for the
+   evaluation length plus run-in and run-out (``insufficient-data``) or the parameter cannot be
+   computed on it (``parameter-not-computed``, e.g. no core for Rk). It is never evaluated under
+   other conditions instead;
+3. each value is placed in its ISO 14253-1 zone and counted as exceeding or not by the decision
+   rule (:mod:`speccheck.evaluation.decision`);
+4. the acceptance rule (:mod:`speccheck.evaluation.rules`) gives the verdict; an unknown value
+   leaves the verdict open only when it could change it.
+
+The overall verdict is nonconforming if any requirement is, else undecided if any is, else
+conforming. The result is deterministic: the same spec and files give the same result except
+``created``.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+from speccheck._version import __version__
+from speccheck.errors import SpecError
+from speccheck.evaluation.decision import (
+    ILAC_G8_NAMES,
+    DecisionRule,
+    Side,
+    at_most_70_percent,
+    counts_as_exceeding,
+    zone,
+)
+from speccheck.evaluation.result import (
+    CheckResult,
+    MeasurementRecord,
+    RequirementResult,
+    ValueRecord,
+    Verdict,
+)
+from speccheck.evaluation.rules import RuleOutcome, apply_rule, combine_limits
+
+if TYPE_CHECKING:
+    from speccheck.parameters.compute import InsufficientData, ParameterSet
+    from speccheck.parameters.conditions import Conditions
+    from speccheck.profile import Profile
+    from speccheck.spec.loader import LoadedSpec, Requirement
+
+__all__ = [
+    "evaluate",
+    "evaluate_files",
+    "load_inputs",
+    "requirement_conditions",
+    "max_spacing_for_um",
+]
+
+# statuses of a measurement for one requirement, in the order they are checked
+_NOT_EVALUATED = ("dropouts", "other-conditions", "insufficient-data", "parameter-not-computed")
+_RANK: dict[str, int] = {"nonconforming": 0, "undecided": 1, "conforming": 2}
+# ISO 3274:1996 Table 1 (standard λc, maximum sampling spacing; the spacing column from memory)
+_STANDARD_CUTOFFS_MM = (0.08, 0.25, 0.8, 2.5, 8.0)
+
+
+@dataclass(frozen=True)
+class _Unknown:
+    status: str  # one of _NOT_EVALUATED
+    note: str  # one line: why
+    action: str  # what to do about it
+
+
+@dataclass(frozen=True)
+class _Value:
+    measurement: int
+    section: int | None
+    value: float | None
+    unknown: _Unknown | None = None
+
+
+def _fmt(x: float) -> str:
+    return f"{x:g}"
+
+
+def _unit_text(unit: str) -> str:
+    return f" {unit}" if unit else ""
+
+
+def max_spacing_for_um(lambda_c_mm: float) -> float:
+    """Largest sampling spacing allowed for a cut-off λc, in µm (ISO 3274:1996 Table 1).
+
+    For a λc that is not in the table, the spacing of the largest standard λc not above it is
+    used (the stricter neighbour); below 0.08 mm it is scaled down in proportion to λc.
+    The spacing column of ISO 3274 Table 1 is from memory (domain notes, section 1).
+    """
+    from speccheck.parameters.conditions import instrument_settings
+
+    lc = float(lambda_c_mm)
+    below = [c for c in _STANDARD_CUTOFFS_MM if c <= lc * (1 + 1e-9)]
+    if not below:
+        return (
+            instrument_settings(_STANDARD_CUTOFFS_MM[0]).max_spacing_um
+            * lc
+            / _STANDARD_CUTOFFS_MM[0]
+        )
+    return instrument_settings(below[-1]).max_spacing_um
+
+
+def requirement_conditions(spec: LoadedSpec, req: Requirement) -> Conditions:
+    """The measurement conditions of a requirement; SpecError at the requirement if impossible."""
+    from speccheck.errors import SpeccheckError
+    from speccheck.parameters.conditions import Conditions
+    from speccheck.parameters.names import parse_parameter_name
+
+    parsed = parse_parameter_name(req.parameter)
+    if parsed is None:
+        raise SpecError(f"unknown parameter {req.parameter!r}", path=spec.path, where=req.location)
+    try:
+        return Conditions(
+            lambda_c_mm=req.lambda_c_mm,
+            lambda_s_um=req.lambda_s_um,
+            sections=req.sections,
+            filter=req.filter,
+            form=req.form,
+            profile=parsed.letter,
+        )
+    except SpeccheckError as exc:
+        raise SpecError(f"{req.text}: {exc.message}", path=spec.path, where=req.location) from exc
+
+
+def _check_requirement(spec: LoadedSpec, req: Requirement) -> None:
+    if req.upper is None and req.lower is None:
+        raise SpecError(f"{req.text}: no limit", path=spec.path, where=req.location)
+    if req.decision_rule != "simple" and req.uncertainty is None:
+        raise SpecError(
+            f"{req.text}: decision rule {req.decision_rule} needs the expanded uncertainty U of "
+            f"{req.parameter} (add it under 'uncertainty')",
+            path=spec.path,
+            where=req.location,
+        )
+    if req.uncertainty is not None and not (
+        math.isfinite(req.uncertainty) and req.uncertainty >= 0
+    ):
+        raise SpecError(
+            f"{req.text}: the uncertainty must be a number ≥ 0", path=spec.path, where=req.location
+        )
+
+
+def _profile_sha256(profile: Profile) -> str | None:
+    return profile.source.sha256
+
+
+def _prepare(profile: Profile) -> Profile:
+    from speccheck.profile import DropoutReport, fill_dropouts
+
+    if profile.dropouts != DropoutReport():
+        return profile  # already processed
+    return fill_dropouts(profile)
+
+
+def _unusable(profile: Profile, cond: Conditions) -> _Unknown | None:
+    """Why this profile cannot be evaluated under ``cond`` before computing (None: it can)."""
+    d = profile.dropouts
+    if not d.usable:
+        gaps = ", ".join(f"{a:g}–{b:g} mm" for a, b in d.refused_gaps_mm)
+        return _Unknown(
+            "dropouts",
+            f"gaps of invalid points too wide to bridge at {gaps}",
+            "measure again beside the gap or after cleaning the surface",
+        )
+    limit_um = max_spacing_for_um(cond.lambda_c_mm)
+    if profile.dx_um > limit_um * (1 + 1e-9):
+        return _Unknown(
+            "other-conditions",
+            f"sampling spacing {_fmt(profile.dx_um)} µm is coarser than the {_fmt(limit_um)} µm "
+            f"ISO 3274 allows for λc {_fmt(cond.lambda_c_mm)} mm",
+            f"measure again with a sampling spacing of at most {_fmt(limit_um)} µm",
+        )
+    return None
+
+
+def _too_short(missing: InsufficientData, cond: Conditions) -> _Unknown:
+    required = round(missing.required_mm, 4)
+    return _Unknown(
+        "insufficient-data",
+        f"trace {_fmt(round(missing.available_mm, 4))} mm is shorter than the {_fmt(required)} mm "
+        f"needed for {cond.sections} × λc {_fmt(cond.lambda_c_mm)} mm plus run-in and run-out",
+        f"measure again with a trace of at least {_fmt(required)} mm",
+    )
+
+
+def _parameter_values(
+    spec: LoadedSpec, req: Requirement, index: int, ps: ParameterSet
+) -> list[_Value]:
+    name = req.parameter
+    notes = [n for n in ps.notes if n.startswith(f"{name}:") or name in n.split()]
+    note = notes[0] if notes else f"{name} could not be computed on this profile"
+    missing = _Unknown(
+        "parameter-not-computed",
+        note,
+        "check the profile and the measurement set-up, then measure again",
+    )
+    if spec.value_per == "section":
+        if not ps.sections or name not in ps.sections[0]:
+            why = _Unknown(
+                "parameter-not-computed",
+                f"{name} is defined over the evaluation length and has no value per section",
+                "set measurement.value_per to evaluation-length for this parameter",
+            )
+            return [_Value(index, None, None, why)]
+        out = []
+        for k, sec in enumerate(ps.sections):
+            pv = sec.get(name)
+            if pv is None or not math.isfinite(pv.value):
+                out.append(_Value(index, k, None, missing))
+            else:
+                out.append(_Value(index, k, float(pv.value)))
+        return out
+    pv = ps.values.get(name)
+    if pv is None or not math.isfinite(pv.value):
+        return [_Value(index, None, None, missing)]
+    return [_Value(index, None, float(pv.value))]
+
+
+def _sides(req: Requirement) -> list[tuple[Side, float]]:
+    out: list[tuple[Side, float]] = []
+    if req.upper is not None:
+        out.append(("upper", float(req.upper)))
+    if req.lower is not None:
+        out.append(("lower", float(req.lower)))
+    return out
+
+
+def _judge(
+    req: Requirement, values: list[_Value], decision_rule: DecisionRule
+) -> tuple[RuleOutcome, list[RuleOutcome]]:
+    outcomes = []
+    for side, limit in _sides(req):
+        flags: list[bool | None] = [
+            None
+            if v.value is None
+            else counts_as_exceeding(
+                v.value,
+                limit=limit,
+                side=side,
+                decision_rule=decision_rule,
+                uncertainty=req.uncertainty,
+            )
+            for v in values
+        ]
+        first_low: bool | None = False
+        if side == "upper" and values and values[0].value is not None:
+            first_low = at_most_70_percent(
+                values[0].value,
+                limit=limit,
+                decision_rule=decision_rule,
+                uncertainty=req.uncertainty,
+            )
+        outcomes.append(
+            apply_rule(req.rule, flags, first_at_most_70pct=first_low, shortcut=side == "upper")
+        )
+    return combine_limits(outcomes), outcomes
+
+
+def _where_text(req: Requirement) -> str:
+    if req.upper is not None and req.lower is not None:
+        return "where the highest and the lowest values are expected"
+    if req.lower is not None:
+        return "where the lowest values are expected"
+    return "where the highest values are expected"
+
+
+def _limits_text(req: Requirement) -> str:
+    u = _unit_text(req.unit)
+    if req.upper is not None and req.lower is not None:
+        return f"limits {_fmt(req.lower)}{u} to {_fmt(req.upper)}{u}"
+    if req.upper is not None:
+        return f"upper limit {_fmt(req.upper)}{u}"
+    return f"lower limit {_fmt(req.lower)}{u}"  # type: ignore[arg-type]
+
+
+def _further_text(n: int, per_section: bool, sections: int) -> str:
+    if per_section:
+        profiles = -(-n // sections)
+        return f"{profiles} more profile{'s' if profiles != 1 else ''} ({n} more section values)"
+    return f"{n} more profile{'s' if n != 1 else ''}"
+
+
+def _requirement_result(
+    spec: LoadedSpec, req: Requirement, cond: Conditions, values: list[_Value]
+) -> RequirementResult:
+    outcome, per_side = _judge(req, values, req.decision_rule)
+    verdict: Verdict = outcome.verdict
+    u = req.uncertainty
+    hinges = False
+    in_range = 0
+    records: list[ValueRecord] = []
+    for v in values:
+        if v.value is None:
+            assert v.unknown is not None
+            records.append(
+                ValueRecord(
+                    v.measurement,
+                    None,
+                    req.unit,
+                    None,
+                    None,
+                    v.section,
+                    f"{v.unknown.status}: {v.unknown.note}",
+                )
+            )
+            continue
+        z = zone(v.value, upper=req.upper, lower=req.lower, uncertainty=u)
+        in_range += z == "uncertain"
+        exceeding = any(
+            counts_as_exceeding(
+                v.value, limit=lim, side=side, decision_rule=req.decision_rule, uncertainty=u
+            )  # type: ignore[arg-type]
+            for side, lim in _sides(req)
+        )
+        records.append(
+            ValueRecord(
+                v.measurement,
+                v.value,
+                req.unit,
+                z,
+                "exceeding" if exceeding else "within",
+                v.section,
+            )
+        )
+    if u is not None and in_range:
+        low, _ = _judge(req, values, "guarded-acceptance")  # uncertainty range counted exceeding
+        high, _ = _judge(req, values, "guarded-rejection")  # uncertainty range counted within
+        hinges = low.verdict != high.verdict
+
+    rule_text = "16 % rule (ISO 4288 5.2)" if req.rule == "16%" else "max-rule (ISO 4288 5.3)"
+    side_texts = []
+    for (side, _lim), o in zip(_sides(req), per_side, strict=True):
+        side_texts.append(f"{side} limit: {o.step}" if len(per_side) > 1 else o.step)
+    explanation = (
+        f"{req.parameter} against the {_limits_text(req)}, {rule_text}: {'; '.join(side_texts)}"
+    )
+    if u is not None:
+        explanation += (
+            f"; U = {_fmt(u)}{_unit_text(req.unit)}, {ILAC_G8_NAMES[req.decision_rule]}"
+            f", {in_range} value{'s' if in_range != 1 else ''} in the uncertainty range"
+        )
+    explanation += "."
+
+    reason: str | None = None
+    next_step: str | None = None
+    per_section = spec.value_per == "section"
+    unknowns = [v for v in values if v.unknown is not None]
+    if verdict == "undecided":
+        parts = []
+        if outcome.unknown_decisive and unknowns:
+            reason = unknowns[0].unknown.status  # type: ignore[union-attr]
+            seen: list[int] = []
+            for v in unknowns:
+                if v.measurement not in seen:
+                    seen.append(v.measurement)
+            first = unknowns[0].unknown
+            assert first is not None
+            which = ", ".join(str(i + 1) for i in seen)
+            parts.append(f"measurement {which}: {first.note}; {first.action}")
+            if outcome.further is not None:
+                more = _further_text(outcome.further, per_section, req.sections)
+                parts.append(f"or measure {more} {_where_text(req)} (ISO 4288)")
+        else:
+            reason = "more-measurements"
+            more = _further_text(outcome.further or 1, per_section, req.sections)
+            parts.append(f"measure {more} {_where_text(req)} (ISO 4288)")
+        next_step = "; ".join(parts)
+    elif hinges:
+        reason = "uncertainty-range"
+        if req.decision_rule == "guarded-acceptance" and verdict == "nonconforming":
+            explanation = (
+                explanation[:-1]
+                + "; conformity is not proven because values lie within U of a limit."
+            )
+        elif req.decision_rule == "simple":
+            explanation = (
+                explanation[:-1]
+                + "; decided by simple acceptance although values lie within U of a limit."
+            )
+        elif req.decision_rule == "guarded-rejection" and verdict == "conforming":
+            explanation = (
+                explanation[:-1]
+                + "; non-conformity is not proven because values lie within U of a limit."
+            )
+
+    conditions = {
+        "lambda_c_mm": cond.lambda_c_mm,
+        "lambda_c_source": req.lambda_c_source,
+        "lambda_s_um": cond.lambda_s_um,
+        "lambda_s_source": req.lambda_s_source,
+        "sections": cond.sections,
+        "evaluation_length_mm": cond.evaluation_length_mm,
+        "required_trace_mm": cond.required_trace_mm,
+        "max_spacing_um": max_spacing_for_um(cond.lambda_c_mm),
+        "filter": cond.filter,
+        "form": cond.form,
+        "profile": cond.profile,
+        "cutoff_table": req.cutoff_table,
+        "rule_source": req.rule_source,
+        "value_per": spec.value_per,
+        "location": req.location,
+    }
+    return RequirementResult(
+        text=req.text,
+        parameter=req.parameter,
+        upper=req.upper,
+        lower=req.lower,
+        unit=req.unit,
+        rule=req.rule,
+        decision_rule=req.decision_rule,
+        uncertainty=u,
+        verdict=verdict,
+        reason=reason,
+        explanation=explanation,
+        next=next_step,
+        values=records,
+        conditions=conditions,
+        # Diagnostics (isolated features, influence of few points) are attached in
+        # _attach_diagnostics below; this list stays empty until then.
+        diagnostics=[],
+    )
+
+
+def _attach_diagnostics(
+    spec: LoadedSpec, results: list[RequirementResult], computed: dict[tuple[int, Conditions], Any]
+) -> None:
+    """DIAGNOSTICS HOOK: the one place where speccheck.diagnostics results join the result.
+
+    Not wired yet: ``RequirementResult.diagnostics`` stays empty. When wired, each entry follows
+    the JSON contract ``{"parameters", "severity", "message", "features", "without_features"}``
+    and ``spec.isolated_features == "undecided"`` may turn a verdict into undecided.
+    """
+    return None
+
+
+def _overall(results: list[RequirementResult]) -> tuple[Verdict, str | None]:
+    if not results:
+        return "undecided", "more-measurements"
+    worst = min(results, key=lambda r: _RANK[r.verdict])
+    return worst.verdict, worst.reason
+
+
+def evaluate(
+    spec: LoadedSpec, profiles: Sequence[Profile], *, created: str | None = None
+) -> CheckResult:
+    """Check measured profiles against a loaded specification.
+
+    Parameters
+    ----------
+    spec:
+        From :func:`speccheck.spec.loader.load_spec`.
+    profiles:
+        The measured profiles in measurement order (the order matters for the first step of
+        the 16 % rule).
+    created:
+        ISO 8601 UTC time stamp to record; now when None.
+
+    Returns
+    -------
+    CheckResult
+        Verdicts per requirement and overall, every value with its zone, every measurement
+        with its status.
+
+    Raises
+    ------
+    SpecError
+        A requirement that cannot be applied (a guarded decision rule without U, an impossible
+        set of conditions), naming the spec file and the requirement's line.
+
+    References
+    ----------
+    ISO 4288:1996 5.2, 5.3 (acceptance rules); ISO 14253-1:2017 (decision rules); ISO 3274:1996
+    Table 1 (sampling spacing).
+    """
+    from speccheck.parameters.compute import compute_parameters
+
+    reqs = list(spec.requirements)
+    conds = []
+    for req in reqs:
+        _check_requirement(spec, req)
+        conds.append(requirement_conditions(spec, req))
+    # parametrised names ("Rmr(0.5)") each set of conditions must compute, in a fixed order
+    extras: dict[Conditions, list[str]] = {}
+    for req, cond in zip(reqs, conds, strict=True):
+        lst = extras.setdefault(cond, [])
+        if "(" in req.parameter and req.parameter not in lst:
+            lst.append(req.parameter)
+
+    prepared = [_prepare(p) for p in profiles]
+    computed: dict[tuple[int, Conditions], Any] = {}
+
+    def params(i: int, cond: Conditions) -> Any:
+        key = (i, cond)
+        if key not in computed:
+            p = prepared[i]
+            try:
+                computed[key] = compute_parameters(
+                    p.z_um, dx_um=p.dx_um, conditions=cond, extra=tuple(extras[cond])
+                )
+            except ValueError as exc:
+                req = next(r for r, c in zip(reqs, conds, strict=True) if c == cond)
+                raise SpecError(f"{req.text}: {exc}", path=spec.path, where=req.location) from exc
+        return computed[key]
+
+    statuses: list[list[_Unknown]] = [[] for _ in prepared]
+    results: list[RequirementResult] = []
+    found: list[dict[str, dict[str, Any]]] = [{} for _ in prepared]
+    for req, cond in zip(reqs, conds, strict=True):
+        values: list[_Value] = []
+        for i, p in enumerate(prepared):
+            unknown = _unusable(p, cond)
+            ps = params(i, cond) if unknown is None else None
+            if unknown is None and ps is not None and not ps:
+                unknown = _too_short(ps, cond)
+            if unknown is not None or ps is None:
+                assert unknown is not None
+                statuses[i].append(unknown)
+                values.append(_Value(i, None, None, unknown))
+                continue
+            vals = _parameter_values(spec, req, i, ps)
+            values.extend(vals)
+            pv = ps.values.get(req.parameter)
+            if pv is not None:
+                key = req.parameter
+                entry = {
+                    "value": float(pv.value) if math.isfinite(pv.value) else None,
+                    "unit": pv.unit,
+                    "lambda_c_mm": cond.lambda_c_mm,
+                    "sections": cond.sections,
+                }
+                if key in found[i] and found[i][key] != entry:
+                    key = f"{key} (λc {_fmt(cond.lambda_c_mm)} mm, {cond.sections} sections)"
+                found[i][key] = entry
+        results.append(_requirement_result(spec, req, cond, values))
+
+    _attach_diagnostics(spec, results, computed)
+
+    measurements = []
+    for i, (raw, p) in enumerate(zip(profiles, prepared, strict=True)):
+        st = statuses[i]
+        status = next((u for s in _NOT_EVALUATED[:3] for u in st if u.status == s), None)
+        d = p.dropouts
+        measurements.append(
+            MeasurementRecord(
+                index=i,
+                path=raw.source.path,
+                sha256=_profile_sha256(raw),
+                format=raw.source.format,
+                points=raw.n_points,
+                spacing_um=raw.dx_um,
+                length_mm=raw.length_mm,
+                status=status.status if status else "evaluated",  # type: ignore[arg-type]
+                reason=status.note if status else None,
+                dropouts={
+                    "invalid_points": d.invalid_points,
+                    "interpolated_points": d.interpolated_points,
+                    "runs": d.runs,
+                    "longest_run_points": d.longest_run_points,
+                    "refused_gaps_mm": [list(g) for g in d.refused_gaps_mm],
+                },
+                parameters=found[i],
+            )
+        )
+    verdict, reason = _overall(results)
+    return CheckResult(
+        verdict=verdict,
+        reason=reason,
+        requirements=results,
+        measurements=measurements,
+        spec={
+            "path": spec.path,
+            "sha256": spec.sha256,
+            # flat, as documented in result.py: "part" is the part number
+            "part": spec.part.get("number"),
+            "part_number": spec.part.get("number"),
+            **{k: v for k, v in sorted(spec.part.items()) if k != "number"},
+            "convention": spec.convention,
+            "decision_rule": spec.decision_rule,
+            "value_per": spec.value_per,
+            "isolated_features": spec.isolated_features,
+        },
+        software={"name": "speccheck", "version": __version__},
+        created=created or datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+    )
+
+
+def load_inputs(
+    spec_path: str | Path,
+    profile_paths: Sequence[str | Path],
+    *,
+    fmt: str | None = None,
+    dx: Any = None,
+    decimal: str = ".",
+) -> tuple[LoadedSpec, list[Profile]]:
+    """Load a spec file and the measured profile files (each with its SHA-256).
+
+    Parameters
+    ----------
+    spec_path:
+        The YAML specification.
+    profile_paths:
+        Measured profile files, in measurement order.
+    fmt, dx, decimal:
+        Passed to :func:`speccheck.readers.read_profile` (format, spacing of z-only text files
+        such as ``"0.5um"``, decimal separator).
+
+    Raises
+    ------
+    SpeccheckError
+        Bad spec (SpecError) or unreadable profile (InputError), naming the file and place.
+    """
+    from speccheck.profile import SourceInfo
+    from speccheck.readers import read_profile
+    from speccheck.spec.loader import load_spec
+
+    spec = load_spec(spec_path)
+    profiles: list[Profile] = []
+    for path in profile_paths:
+        p = read_profile(path, fmt=fmt, dx=dx, decimal=decimal)
+        if p.source.sha256 is None:
+            sha = hashlib.sha256(Path(path).read_bytes()).hexdigest()
+            s = p.source
+            src = SourceInfo(s.path or str(path), sha, s.format, s.instrument, s.date, s.comment)
+            p = p.replace(source=src)
+        profiles.append(p)
+    return spec, profiles
+
+
+def evaluate_files(
+    spec_path: str | Path,
+    profile_paths: Sequence[str | Path],
+    *,
+    fmt: str | None = None,
+    dx: Any = None,
+    decimal: str = ".",
+    created: str | None = None,
+) -> CheckResult:
+    """Load a spec file and profile files (:func:`load_inputs`), then :func:`evaluate` them."""
+    spec, profiles = load_inputs(spec_path, profile_paths, fmt=fmt, dx=dx, decimal=decimal)
+    return evaluate(spec, profiles, created=created)

@@ -1,0 +1,320 @@
+"""Signing keys, passphrases and PDF signatures (PAdES baseline B with pyHanko).
+
+An organisation without a PKI makes a self-signed key with :func:`new_key`; it keeps the
+passphrase-protected PKCS#12 file and hands the PEM certificate to whoever verifies its records.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+from speccheck._atomic import atomic_write_bytes
+from speccheck.errors import ReportError
+
+__all__ = [
+    "PASSPHRASE_ENV",
+    "SIGNATURE_FIELD",
+    "KeyInfo",
+    "SignerIdentity",
+    "read_passphrase",
+    "new_key",
+    "signer_identity",
+    "sign_pdf",
+]
+
+PASSPHRASE_ENV = "SPECCHECK_PASSPHRASE"
+SIGNATURE_FIELD = "SpeccheckRecordSignature"
+MIN_PASSPHRASE_BYTES = 8
+
+
+@dataclass(frozen=True)
+class KeyInfo:
+    """A key made by :func:`new_key`."""
+
+    p12_path: Path
+    pem_path: Path
+    subject: str
+    sha256_fingerprint: str  # of the DER certificate, hex, upper case, colon-separated
+    not_after: str  # ISO 8601 UTC
+
+
+@dataclass(frozen=True)
+class SignerIdentity:
+    """Who a PKCS#12 key says it belongs to (read before signing, for the face of the record)."""
+
+    name: str
+    organisation: str | None
+    sha256_fingerprint: str
+    not_after: str
+    self_signed: bool
+
+
+def read_passphrase(passphrase_file: Path | None) -> bytes | None:
+    """Passphrase from ``passphrase_file`` (first line) or the ``SPECCHECK_PASSPHRASE`` variable.
+
+    Parameters
+    ----------
+    passphrase_file:
+        A file whose first line is the passphrase; the line end is not part of it.
+
+    Returns
+    -------
+    bytes or None
+        The passphrase as UTF-8 bytes; None when neither source gives one.
+
+    Notes
+    -----
+    A passphrase never comes from a command-line argument: those are visible to other users in
+    the process list and end up in shell history.
+    """
+    if passphrase_file is not None:
+        path = Path(passphrase_file)
+        try:
+            data = path.read_bytes()
+        except OSError as exc:
+            raise ReportError(
+                f"cannot read the passphrase file ({exc.strerror or exc})", path=str(path)
+            ) from exc
+        line = data.splitlines()[0] if data.splitlines() else b""
+        if not line:
+            raise ReportError("the passphrase file is empty", path=str(path), where="line 1")
+        return line
+    env = os.environ.get(PASSPHRASE_ENV)
+    if env:
+        return env.encode("utf-8")
+    return None
+
+
+def _fingerprint(cert) -> str:
+    from cryptography.hazmat.primitives import hashes
+
+    return cert.fingerprint(hashes.SHA256()).hex(":").upper()
+
+
+def new_key(
+    out_p12: Path,
+    *,
+    name: str,
+    passphrase: bytes,
+    organisation: str | None = None,
+    days: int = 730,
+) -> KeyInfo:
+    """Make an RSA-3072 key with a self-signed certificate; write ``out_p12`` and ``<stem>.pem``.
+
+    Parameters
+    ----------
+    out_p12:
+        The PKCS#12 file to write (passphrase-protected); the certificate goes next to it with
+        the suffix ``.pem``. Neither may exist already: a signing key is never overwritten.
+    name:
+        The signer's name (certificate common name).
+    passphrase:
+        Protects the private key; at least 8 bytes.
+    organisation:
+        Optional organisation name (certificate O attribute).
+    days:
+        Validity of the certificate from now.
+
+    Returns
+    -------
+    KeyInfo
+
+    Notes
+    -----
+    The certificate allows digital signatures and non-repudiation (RFC 5280 4.2.1.3) and is its
+    own issuer; verifiers trust it by being given the PEM file (``speccheck verify --trust``).
+    """
+    from cryptography import x509
+    from cryptography.hazmat.primitives import hashes, serialization
+    from cryptography.hazmat.primitives.asymmetric import rsa
+    from cryptography.hazmat.primitives.serialization import pkcs12
+    from cryptography.x509.oid import NameOID
+
+    out_p12 = Path(out_p12)
+    pem_path = out_p12.with_suffix(".pem")
+    if not name.strip():
+        raise ReportError("the signer's name is empty", where="--name")
+    if days < 1:
+        raise ReportError(f"validity must be at least 1 day, got {days}", where="--days")
+    if len(passphrase) < MIN_PASSPHRASE_BYTES:
+        raise ReportError(
+            f"the passphrase is too short ({len(passphrase)} bytes; at least "
+            f"{MIN_PASSPHRASE_BYTES})",
+            where="passphrase",
+        )
+    for p in (out_p12, pem_path):
+        if p.exists():
+            raise ReportError("already exists; a signing key is never overwritten", path=str(p))
+
+    key = rsa.generate_private_key(public_exponent=65537, key_size=3072)
+    attrs = [x509.NameAttribute(NameOID.COMMON_NAME, name.strip())]
+    if organisation and organisation.strip():
+        attrs.append(x509.NameAttribute(NameOID.ORGANIZATION_NAME, organisation.strip()))
+    subject = x509.Name(attrs)
+    now = _dt.datetime.now(_dt.UTC).replace(microsecond=0)
+    not_after = now + _dt.timedelta(days=days)
+    cert = (
+        x509.CertificateBuilder()
+        .subject_name(subject)
+        .issuer_name(subject)
+        .public_key(key.public_key())
+        .serial_number(x509.random_serial_number())
+        .not_valid_before(now - _dt.timedelta(minutes=5))
+        .not_valid_after(not_after)
+        .add_extension(x509.BasicConstraints(ca=False, path_length=None), critical=True)
+        .add_extension(
+            x509.KeyUsage(
+                digital_signature=True,
+                content_commitment=True,
+                key_encipherment=False,
+                data_encipherment=False,
+                key_agreement=False,
+                key_cert_sign=False,
+                crl_sign=False,
+                encipher_only=False,
+                decipher_only=False,
+            ),
+            critical=True,
+        )
+        .add_extension(x509.SubjectKeyIdentifier.from_public_key(key.public_key()), critical=False)
+        .sign(key, hashes.SHA256())
+    )
+    p12 = pkcs12.serialize_key_and_certificates(
+        name.strip().encode("utf-8"),
+        key,
+        cert,
+        None,
+        serialization.BestAvailableEncryption(passphrase),
+    )
+    pem = cert.public_bytes(serialization.Encoding.PEM)
+    atomic_write_bytes(out_p12, p12)
+    try:
+        atomic_write_bytes(pem_path, pem)
+    except BaseException:
+        out_p12.unlink(missing_ok=True)
+        raise
+    try:
+        os.chmod(out_p12, 0o600)
+    except OSError:  # e.g. a file system without permissions; the passphrase still protects it
+        pass
+    return KeyInfo(
+        p12_path=out_p12,
+        pem_path=pem_path,
+        subject=subject.rfc4514_string(),
+        sha256_fingerprint=_fingerprint(cert),
+        not_after=not_after.isoformat().replace("+00:00", "Z"),
+    )
+
+
+def _load_p12(p12_path: Path, passphrase: bytes | None):
+    from cryptography.hazmat.primitives.serialization import pkcs12
+
+    p12_path = Path(p12_path)
+    try:
+        data = p12_path.read_bytes()
+    except OSError as exc:
+        raise ReportError(
+            f"cannot read the key file ({exc.strerror or exc})", path=str(p12_path)
+        ) from exc
+    if passphrase is None:
+        raise ReportError(
+            f"no passphrase for the key: give --passphrase-file FILE or set {PASSPHRASE_ENV}",
+            path=str(p12_path),
+        )
+    try:
+        key, cert, extra = pkcs12.load_key_and_certificates(data, passphrase)
+    except (ValueError, TypeError) as exc:
+        raise ReportError(
+            "cannot open the key: wrong passphrase or not a PKCS#12 file", path=str(p12_path)
+        ) from exc
+    if key is None or cert is None:
+        raise ReportError("the PKCS#12 file holds no key and certificate", path=str(p12_path))
+    return key, cert, list(extra or [])
+
+
+def signer_identity(p12_path: Path, passphrase: bytes | None) -> SignerIdentity:
+    """Read the name, organisation and fingerprint of the key's certificate."""
+    from cryptography.x509.oid import NameOID
+
+    _, cert, _ = _load_p12(p12_path, passphrase)
+
+    def attr(oid) -> str | None:
+        vals = cert.subject.get_attributes_for_oid(oid)
+        return str(vals[0].value) if vals else None
+
+    return SignerIdentity(
+        name=attr(NameOID.COMMON_NAME) or cert.subject.rfc4514_string(),
+        organisation=attr(NameOID.ORGANIZATION_NAME),
+        sha256_fingerprint=_fingerprint(cert),
+        not_after=cert.not_valid_after_utc.isoformat().replace("+00:00", "Z"),
+        self_signed=cert.issuer == cert.subject,
+    )
+
+
+def sign_pdf(
+    pdf_bytes: bytes,
+    *,
+    p12_path: Path,
+    passphrase: bytes | None,
+    field_name: str = SIGNATURE_FIELD,
+    reason: str | None = None,
+    location: str | None = None,
+) -> bytes:
+    """Sign a PDF with the key in a PKCS#12 file: PAdES baseline B (ETSI EN 319 142-1), SHA-256.
+
+    Parameters
+    ----------
+    pdf_bytes:
+        The finished document; the signature is added as an incremental update covering it all.
+    p12_path, passphrase:
+        The key; a wrong or missing passphrase is a :class:`ReportError`.
+    field_name:
+        Name of the (invisible) signature field.
+    reason, location:
+        Written into the signature dictionary.
+
+    Returns
+    -------
+    bytes
+        The signed PDF.
+    """
+    from io import BytesIO
+
+    from asn1crypto import keys as asn1_keys
+    from asn1crypto import x509 as asn1_x509
+    from cryptography.hazmat.primitives import serialization
+    from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
+    from pyhanko.sign import fields, signers
+    from pyhanko_certvalidator.registry import SimpleCertificateStore
+
+    key, cert, extra = _load_p12(p12_path, passphrase)
+    signing_key = asn1_keys.PrivateKeyInfo.load(
+        key.private_bytes(
+            serialization.Encoding.DER,
+            serialization.PrivateFormat.PKCS8,
+            serialization.NoEncryption(),
+        )
+    )
+    signing_cert = asn1_x509.Certificate.load(cert.public_bytes(serialization.Encoding.DER))
+    others = [asn1_x509.Certificate.load(c.public_bytes(serialization.Encoding.DER)) for c in extra]
+    signer = signers.SimpleSigner(
+        signing_cert=signing_cert,
+        signing_key=signing_key,
+        cert_registry=SimpleCertificateStore.from_certs([signing_cert, *others]),
+    )
+    meta = signers.PdfSignatureMetadata(
+        field_name=field_name,
+        md_algorithm="sha256",
+        subfilter=fields.SigSeedSubFilter.PADES,
+        reason=reason,
+        location=location,
+    )
+    try:
+        writer = IncrementalPdfFileWriter(BytesIO(pdf_bytes), strict=False)
+        out = signers.sign_pdf(writer, meta, signer=signer)
+    except Exception as exc:  # pyHanko raises several types for unreadable input
+        raise ReportError(f"cannot sign the document: {exc}") from exc
+    return out.getvalue()

@@ -1,0 +1,415 @@
+"""The report's view model: plain data, every string already worded, for logic-free templates."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+__all__ = [
+    "CAUTIONS",
+    "VERDICT_WORDS",
+    "PlotView",
+    "ValueRow",
+    "RequirementView",
+    "MeasurementView",
+    "FeatureRow",
+    "SignatureView",
+    "ReportView",
+    "format_number",
+    "build_view",
+]
+
+VERDICT_WORDS = {
+    "conforming": "CONFORMING",
+    "nonconforming": "NONCONFORMING",
+    "undecided": "UNDECIDED",
+}
+_VERDICT_SENTENCES = {
+    "conforming": "Every requirement of the specification is met under the rules stated below.",
+    "nonconforming": "At least one requirement of the specification is not met.",
+    "undecided": (
+        "The measurements do not yet decide at least one requirement: see the next step "
+        "given for it. Do not release or reject the part on this record."
+    ),
+}
+_RULE_WORDS = {"16%": "16 % rule", "max": "max rule (no value may exceed)"}
+_DECISION_WORDS = {
+    "simple": "simple acceptance (no guard band)",
+    "guarded-acceptance": "guarded acceptance (limits tightened by U)",
+    "guarded-rejection": "guarded rejection (limits widened by U)",
+}
+_ZONE_WORDS = {
+    "within": "inside",
+    "uncertain": "within U of a limit",
+    "outside": "outside",
+}
+_STATUS_WORDS = {
+    "evaluated": "evaluated",
+    "insufficient-data": "not evaluated: trace too short",
+    "other-conditions": "not evaluated: measured under other conditions",
+    "dropouts": "not evaluated: too many missing points",
+}
+
+CAUTIONS = (
+    "This record is only as good as the measurement behind it: the instrument must be "
+    "calibrated, traceable to national standards and used within its stated uncertainty.",
+    "Measurements and their interpretation are for qualified personnel.",
+    "The governing drawing, the contract and the applicable standards take precedence over "
+    "this record. Where they differ from the specification file used here, they govern.",
+    "speccheck assists the inspector; it does not replace the inspector's judgement. A "
+    "surface that conforms here can still be unfit, for example with a defect outside the traces.",
+    "The customer's quality requirements govern acceptance and release of the parts.",
+    "Anyone can check this record: 'speccheck verify' tests the digital signature and "
+    "recomputes the result from the specification and profile files attached to this PDF.",
+)
+
+
+def format_number(value: float | None, unit: str = "") -> str:
+    """Four significant digits in fixed notation (no exponent), with the unit after a space."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "—"
+    v = float(value)
+    if v == 0:
+        text = "0"
+    else:
+        decimals = max(0, 3 - int(math.floor(math.log10(abs(v)))))
+        text = f"{v:.{min(decimals, 8)}f}"
+    return f"{text} {unit}".strip()
+
+
+@dataclass(frozen=True)
+class PlotView:
+    title: str
+    src: str  # data: URI of an SVG
+    caption: str
+    wide: bool = True
+
+
+@dataclass(frozen=True)
+class ValueRow:
+    measurement: str  # "1"
+    file: str
+    section: str
+    value: str
+    zone: str
+    counts_as: str
+    note: str
+
+
+@dataclass(frozen=True)
+class RequirementView:
+    number: int
+    callout: str
+    parameter: str
+    limits: str
+    rule: str
+    decision_rule: str
+    uncertainty: str
+    conditions: str
+    verdict_word: str
+    verdict_class: str
+    explanation: str
+    next_step: str
+    tally: str
+    values: list[ValueRow]
+
+
+@dataclass(frozen=True)
+class FeatureRow:
+    requirement: str
+    measurement: str
+    position: str
+    depth: str
+    width: str
+    note: str
+
+
+@dataclass(frozen=True)
+class MeasurementView:
+    number: int
+    file: str
+    sha256: str
+    format: str
+    points: str
+    spacing: str
+    length: str
+    status: str
+    key_values: str
+    plots: list[PlotView] = field(default_factory=list)
+    plot_note: str = ""
+
+
+@dataclass(frozen=True)
+class SignatureView:
+    signed: bool
+    status: str  # "NOT SIGNED" or "Digitally signed (PAdES)"
+    signer: str
+    role: str
+    date: str
+    fingerprint: str
+    note: str  # demo-key warning or how to verify
+
+
+@dataclass(frozen=True)
+class ReportView:
+    title: str
+    part_line: str
+    identity: list[tuple[str, str]]
+    verdict_word: str
+    verdict_class: str
+    verdict_sentence: str
+    verdict_reason: str
+    signature: SignatureView
+    requirements: list[RequirementView]
+    measurements: list[MeasurementView]
+    features: list[FeatureRow]
+    cautions: Sequence[str]
+    attachments: list[tuple[str, str]]  # (file name, what it is)
+    footer: str
+    created: str
+    software: str
+
+
+def _limits_text(upper: float | None, lower: float | None, unit: str) -> str:
+    if upper is not None and lower is not None:
+        return f"{format_number(lower)} to {format_number(upper, unit)}"
+    if upper is not None:
+        return f"upper {format_number(upper, unit)}"
+    if lower is not None:
+        return f"lower {format_number(lower, unit)}"
+    return "none stated"
+
+
+def _conditions_text(c: Mapping[str, Any]) -> str:
+    parts = []
+    if c.get("lambda_c_mm") is not None:
+        parts.append(f"λc {format_number(c['lambda_c_mm'], 'mm')}")
+    if "lambda_s_um" in c:
+        ls = c.get("lambda_s_um")
+        parts.append(f"λs {format_number(ls, 'µm')}" if ls is not None else "no λs filter")
+    if c.get("lambda_f_mm") is not None:
+        parts.append(f"λf {format_number(c['lambda_f_mm'], 'mm')}")
+    if c.get("sections") is not None:
+        parts.append(f"{c['sections']} sections")
+    if c.get("evaluation_length_mm") is not None:
+        parts.append(f"evaluation length {format_number(c['evaluation_length_mm'], 'mm')}")
+    if c.get("filter"):
+        parts.append(f"{c['filter']} filter")
+    if c.get("form"):
+        parts.append(f"form removed: {c['form']}")
+    known = {"lambda_c_mm", "lambda_s_um", "lambda_f_mm", "sections", "evaluation_length_mm",
+             "filter", "form"}
+    for k in sorted(set(c) - known):
+        if c[k] is not None and not isinstance(c[k], (dict, list)):
+            parts.append(f"{k.replace('_', ' ')}: {c[k]}")
+    return "; ".join(parts) if parts else "not recorded"
+
+
+def _file_name(path: str | None) -> str:
+    if not path:
+        return "—"
+    return path.replace("\\", "/").rsplit("/", 1)[-1]
+
+
+def _feature_dicts(diag: Mapping[str, Any]) -> list[dict[str, Any]]:
+    if "x_mm" in diag:
+        return [dict(diag)]
+    feats = diag.get("features")
+    if isinstance(feats, list):
+        out = []
+        for f in feats:
+            if isinstance(f, Mapping):
+                d = dict(f)
+                d.setdefault("measurement", diag.get("measurement"))
+                d.setdefault("message", diag.get("message") or diag.get("summary"))
+                out.append(d)
+        return out
+    return []
+
+
+def features_by_measurement(result: Any) -> dict[int, list[dict[str, Any]]]:
+    """Isolated features of all requirements' diagnostics, grouped by measurement index."""
+    out: dict[int, list[dict[str, Any]]] = {}
+    for req in result.requirements:
+        for diag in req.diagnostics or []:
+            for f in _feature_dicts(diag):
+                m = f.get("measurement")
+                if isinstance(m, int):
+                    out.setdefault(m, []).append(f)
+    return out
+
+
+def build_view(
+    result: Any,
+    *,
+    signature: SignatureView,
+    plots: Mapping[int, list[PlotView]] | None = None,
+    plot_notes: Mapping[int, str] | None = None,
+    attachments: Sequence[tuple[str, str]] = (),
+    spec_identity: Sequence[tuple[str, str]] = (),
+) -> ReportView:
+    """Word every field of a :class:`~speccheck.evaluation.result.CheckResult` for the templates.
+
+    Parameters
+    ----------
+    result:
+        The check result.
+    signature:
+        What to say in the signature block.
+    plots, plot_notes:
+        Per measurement index, the plots to show and a note (e.g. why there is no plot).
+    attachments:
+        (file name, description) of each file attached to the PDF.
+    spec_identity:
+        Extra (label, value) rows about the specification.
+    """
+    plots = plots or {}
+    plot_notes = plot_notes or {}
+    spec = result.spec or {}
+    part = spec.get("part") if isinstance(spec.get("part"), Mapping) else {}
+    number = part.get("number") or spec.get("part_number") or spec.get("number") or "—"
+    revision = part.get("revision") or spec.get("revision")
+    surface = part.get("surface") or spec.get("surface")
+    part_line = f"Part {number}" + (f" rev. {revision}" if revision else "")
+    if surface:
+        part_line += f", surface {surface}"
+
+    identity: list[tuple[str, str]] = [("Part number", str(number))]
+    for label, key in (("Revision", "revision"), ("Part name", "name"), ("Surface", "surface"),
+                       ("Drawing", "drawing"), ("Supplier", "supplier")):
+        v = part.get(key) or spec.get(key)
+        if v:
+            identity.append((label, str(v)))
+    identity.append(("Specification file", _file_name(spec.get("path"))))
+    if spec.get("sha256"):
+        identity.append(("Specification SHA-256", str(spec["sha256"])))
+    if spec.get("convention"):
+        identity.append(("Convention", str(spec["convention"])))
+    identity.extend(spec_identity)
+    sw = result.software or {}
+    software = f"{sw.get('name', 'speccheck')} {sw.get('version', '')}".strip()
+    identity.append(("Evaluated with", software))
+    identity.append(("Evaluated at (UTC)", result.created))
+
+    files = {m.index: _file_name(m.path) for m in result.measurements}
+
+    requirements = []
+    for i, req in enumerate(result.requirements, start=1):
+        rows = []
+        exceeding = 0
+        for v in req.values:
+            if v.counts_as == "exceeding":
+                exceeding += 1
+            rows.append(
+                ValueRow(
+                    measurement=str(v.measurement + 1),
+                    file=files.get(v.measurement, "—"),
+                    section=str(v.section + 1) if v.section is not None else "",
+                    value=format_number(v.value, v.unit),
+                    zone=_ZONE_WORDS.get(v.zone or "", "—"),
+                    counts_as={"within": "within", "exceeding": "EXCEEDING"}.get(
+                        v.counts_as or "", "—"
+                    ),
+                    note=v.note or "",
+                )
+            )
+        counted = sum(1 for v in req.values if v.value is not None)
+        tally = f"{counted} value{'s' if counted != 1 else ''}, {exceeding} exceeding"
+        unc = (
+            f"U = {format_number(req.uncertainty, req.unit)} (k = 2)"
+            if req.uncertainty is not None
+            else "not stated (taken as 0)"
+        )
+        requirements.append(
+            RequirementView(
+                number=i,
+                callout=req.text,
+                parameter=req.parameter,
+                limits=_limits_text(req.upper, req.lower, req.unit),
+                rule=_RULE_WORDS.get(req.rule, req.rule),
+                decision_rule=_DECISION_WORDS.get(req.decision_rule, req.decision_rule),
+                uncertainty=unc,
+                conditions=_conditions_text(req.conditions or {}),
+                verdict_word=VERDICT_WORDS.get(req.verdict, req.verdict.upper()),
+                verdict_class=f"v-{req.verdict}",
+                explanation=req.explanation,
+                next_step=req.next or "none: decided",
+                tally=tally,
+                values=rows,
+            )
+        )
+
+    rsk_names = ("Rsk",)
+    measurements = []
+    for m in result.measurements:
+        kv = []
+        for name in ("Ra", "Rz", "Rsk", "Rk", "Rpk", "Rvk"):
+            p = (m.parameters or {}).get(name)
+            if isinstance(p, Mapping) and p.get("value") is not None:
+                kv.append(f"{name} {format_number(p['value'], p.get('unit', ''))}")
+        status = _STATUS_WORDS.get(m.status, m.status)
+        if m.reason:
+            status += f" ({m.reason})"
+        measurements.append(
+            MeasurementView(
+                number=m.index + 1,
+                file=_file_name(m.path),
+                sha256=m.sha256 or "—",
+                format=m.format or "—",
+                points=str(m.points),
+                spacing=format_number(m.spacing_um, "µm"),
+                length=format_number(m.length_mm, "mm"),
+                status=status,
+                key_values=", ".join(kv) if kv else "",
+                plots=list(plots.get(m.index, [])),
+                plot_note=plot_notes.get(m.index, ""),
+            )
+        )
+    del rsk_names
+
+    features = []
+    for i, req in enumerate(result.requirements, start=1):
+        for diag in req.diagnostics or []:
+            feats = _feature_dicts(diag)
+            if not feats:
+                msg = diag.get("message") or diag.get("summary") or "; ".join(
+                    f"{k}: {v}" for k, v in diag.items()
+                )
+                m = diag.get("measurement")
+                features.append(FeatureRow(
+                    requirement=f"{i} ({req.parameter})",
+                    measurement=str(m + 1) if isinstance(m, int) else "—",
+                    position="—", depth="—", width="—", note=str(msg),
+                ))
+            for f in feats:
+                m = f.get("measurement")
+                features.append(FeatureRow(
+                    requirement=f"{i} ({req.parameter})",
+                    measurement=str(m + 1) if isinstance(m, int) else "—",
+                    position=format_number(f.get("x_mm"), "mm"),
+                    depth=format_number(f.get("depth_um"), "µm"),
+                    width=format_number(f.get("width_um"), "µm"),
+                    note=str(f.get("message") or f.get("kind") or ""),
+                ))
+
+    verdict = result.verdict
+    return ReportView(
+        title="Surface finish conformance record",
+        part_line=part_line,
+        identity=identity,
+        verdict_word=VERDICT_WORDS.get(verdict, verdict.upper()),
+        verdict_class=f"v-{verdict}",
+        verdict_sentence=_VERDICT_SENTENCES.get(verdict, ""),
+        verdict_reason=result.reason or "",
+        signature=signature,
+        requirements=requirements,
+        measurements=measurements,
+        features=features,
+        cautions=CAUTIONS,
+        attachments=list(attachments),
+        footer=f"{part_line} — {VERDICT_WORDS.get(verdict, verdict)} — {signature.status}",
+        created=result.created,
+        software=software,
+    )

@@ -1,0 +1,131 @@
+"""Say in plain words what a resolved requirement asks for, and where each setting came from."""
+
+from __future__ import annotations
+
+from speccheck.spec.requirement import LoadedSpec, Requirement
+
+__all__ = ["explain_requirement", "explain_sentence", "explain_spec"]
+
+_FILTER_WORDS = {
+    "gaussian": "Gaussian filter (ISO 16610-21)",
+    "robust": "robust Gaussian regression filter (ISO 16610-31)",
+}
+_FORM_WORDS = {
+    "line": "least-squares line",
+    "arc": "least-squares arc",
+    "none": "nothing (no form removal)",
+}
+_DECISION_WORDS = {
+    "simple": "simple acceptance (ILAC G8), no guard band",
+    "guarded-acceptance": "guarded acceptance (ISO 14253-1): within only if inside the limit by U",
+    "guarded-rejection": (
+        "guarded rejection (ISO 14253-1): exceeding only if outside the limit by more than U"
+    ),
+}
+_CONVENTION_WORDS = {
+    "iso1302": "ISO 1302 drawing indication (ISO 4287 / ISO 4288 parameters and rules)",
+    "iso21920": "ISO 21920 drawing indication (ISO 21920-2 / ISO 21920-3)",
+    "asme": "ASME Y14.36 drawing indication (ASME B46.1 parameters)",
+}
+
+
+def _num(value: float, unit: str) -> str:
+    if unit == "%":
+        return f"{value:g} %"
+    return f"{value:g} {unit}".strip()
+
+
+def _limit_words(req: Requirement) -> str:
+    p, u = req.parameter, req.unit
+    if req.upper is not None and req.lower is not None:
+        return f"{_num(req.lower, u)} ≤ {p} ≤ {_num(req.upper, u)} (lower and upper limit)"
+    if req.upper is not None:
+        return f"{p} ≤ {_num(req.upper, u)} (upper limit)"
+    assert req.lower is not None
+    return f"{p} ≥ {_num(req.lower, u)} (lower limit)"
+
+
+def _form_words(form: str) -> str:
+    if form.startswith("poly"):
+        return f"least-squares polynomial of degree {form[4:]}"
+    return _FORM_WORDS.get(form, form)
+
+
+def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
+    """(label, text) pairs for ``req``; each setting is followed by " — " and its source."""
+    rule_words = "16 % rule" if req.rule == "16%" else "max rule (no measured value may exceed)"
+    source = req.rule_source.replace(" (16 % rule)", "")  # "ISO 1302 default (16 % rule)"
+    rule = f"{rule_words} — {source}"
+    ls = (
+        f"λs {req.lambda_s_um:g} µm — {req.lambda_s_source}"
+        if req.lambda_s_um is not None
+        else f"no λs filter — {req.lambda_s_source}"
+    )
+    if req.uncertainty is not None:
+        u = f"U = {_num(req.uncertainty, req.unit)} (k = 2) — {req.uncertainty_source}"
+    else:
+        u = "U not given"
+    return [
+        ("limit", _limit_words(req)),
+        ("rule", rule),
+        ("cut-off", f"λc {req.lambda_c_mm:g} mm — {req.lambda_c_source}"),
+        (
+            "length",
+            f"{req.sections} sections of {req.lambda_c_mm:g} mm = evaluation length "
+            f"{req.evaluation_length_mm:g} mm — {req.sections_source}",
+        ),
+        ("short-wave", ls),
+        ("filter", f"{_FILTER_WORDS[req.filter]} — {req.filter_source}"),
+        ("form", f"{_form_words(req.form)} removed first — {req.form_source}"),
+        ("decision", f"{_DECISION_WORDS[req.decision_rule]}; {u}"),
+    ]
+
+
+def explain_sentence(req: Requirement) -> str:
+    """The explanation of ``req`` as one line."""
+    parts = [text for _, text in explain_requirement(req)]
+    parts[-1] = "decision rule: " + parts[-1]
+    return ", ".join(parts)
+
+
+def explain_spec(spec: LoadedSpec) -> str:
+    """The whole specification in plain words, one block per requirement."""
+    part = spec.part
+    number, revision = part.get("number", "?"), part.get("revision", "?")
+    head = f"Part {number} rev. {revision}, surface: {part.get('surface', '?')}"
+    if part.get("name"):
+        head += f" ({part['name']})"
+    lines = [head]
+    if part.get("supplier"):
+        lines.append(f"Supplier: {part['supplier']}")
+    if part.get("drawing"):
+        lines.append(f"Drawing: {part['drawing']}")
+    lines.append(f"Convention: {_CONVENTION_WORDS[spec.convention]}")
+    per = (
+        "one value per evaluation length"
+        if spec.value_per == "evaluation-length"
+        else "one value per section"
+    )
+    lines.append(f"Measured values: {per}")
+    iso = (
+        "reported beside the verdict"
+        if spec.isolated_features == "report"
+        else "make the verdict undecided (measure again)"
+    )
+    lines.append(f"Values resting on a few isolated points: {iso}")
+    for i, req in enumerate(spec.requirements, start=1):
+        lines.append("")
+        line_col = req.location.replace("line ", "").replace(", col ", ":")
+        lines.append(f"[{i}] {req.text}    ({spec.path}:{line_col})")
+        width = max(len(label) for label, _ in explain_requirement(req))
+        for label, text in explain_requirement(req):
+            lines.append(f"    {label + ':':<{width + 1}} {text}")
+    if spec.notes:
+        lines += ["", f"Notes: {spec.notes.strip()}"]
+    lines += [
+        "",
+        "The governing drawing, the contract and the applicable standards take precedence over "
+        "this",
+        "reading. Measurements need a calibrated instrument and qualified personnel.",
+    ]
+    return "\n".join(lines)

@@ -1,0 +1,188 @@
+"""Find mistakes and risky choices in specification files.
+
+Errors (the file must be fixed): everything :func:`speccheck.spec.loader.check_spec` refuses
+(YAML, schema, callout grammar, unknown parameters, limits ≤ 0 or in the wrong order, values
+without units, ISO 21920 without a stated rule, zero sections) and a cut-off outside the standard
+series. Warnings (the file can be used): a λs/λc pair that is not the ISO 3274 one, a surface
+controlled only through a parameter that rests on a few points, a guarded decision rule without
+an uncertainty, an uncertainty no requirement uses.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Literal
+
+from speccheck.errors import SpeccheckError, SpecError
+from speccheck.parameters.names import parse_parameter_name
+from speccheck.spec._yaml import Document, KeyPath
+from speccheck.spec.loader import check_spec
+from speccheck.spec.requirement import Requirement
+from speccheck.spec.resolve import iso3274_lambda_s_um, standard_cutoffs_mm
+
+__all__ = ["Finding", "lint_file", "lint_paths"]
+
+# Stable parameters that control the same property as a single-point-sensitive one.
+_HEIGHT_SHAPE = {"Rpk", "Rk", "Rvk", "Mr1", "Mr2", "Rpq", "Rvq", "Rmq", "Rp", "Rv", "Rpm", "Rvm"}
+_EXTREMES = {"Rz", "Rp", "Rv", "Rpm", "Rvm", "Rpk", "Rk", "Rvk"}
+_SENSITIVE_WHY = {
+    "sk": ("one scratch or spike can flip its sign, heights enter cubed", _HEIGHT_SHAPE),
+    "ku": ("one scratch or spike dominates it, heights enter to the fourth power", _HEIGHT_SHAPE),
+    "t": (
+        "it is set by the single highest peak and deepest valley of the evaluation length",
+        _EXTREMES,
+    ),
+    "max": ("it is set by the single worst section", _EXTREMES),
+    "z1max": ("it is set by the single worst section", _EXTREMES),
+}
+_ALTERNATIVES = "section-averaged Rp/Rv, ASME Rpm/Rvm or the Rk family (Rpk, Rk, Rvk)"
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One lint finding; ``line``/``col`` are None when the whole file is concerned."""
+
+    path: str
+    line: int | None
+    col: int | None
+    severity: Literal["error", "warning"]
+    message: str
+
+    def __str__(self) -> str:
+        place = f"{self.path}:{self.line}:{self.col}" if self.line is not None else self.path
+        tag = "warning: " if self.severity == "warning" else ""
+        return f"{place}: {tag}{self.message}"
+
+
+def _position(where: str | None) -> tuple[int | None, int | None]:
+    if not where or not where.startswith("line "):
+        return None, None
+    try:
+        line_part, col_part = where.split(",")
+        return int(line_part.split()[1]), int(col_part.split()[1])
+    except (ValueError, IndexError):
+        return None, None
+
+
+def _from_error(err: SpecError, path: str) -> Finding:
+    line, col = _position(err.where)
+    message = err.message if line is not None or not err.where else f"{err.where}: {err.message}"
+    return Finding(err.path or path, line, col, "error", message)
+
+
+def _at(doc: Document, key_path: KeyPath) -> tuple[int, int]:
+    return doc.position(key_path)
+
+
+def _req_position(req: Requirement) -> tuple[int | None, int | None]:
+    return _position(req.location)
+
+
+def lint_file(path: str | Path) -> list[Finding]:
+    """All errors and warnings of one specification file, in file order (errors first per place).
+
+    Parameters
+    ----------
+    path:
+        The YAML file.
+
+    Returns
+    -------
+    list[Finding]
+        Empty when the file is clean.
+    """
+    p = str(path)
+    check = check_spec(path)
+    findings = [_from_error(e, p) for e in check.errors]
+    if check.spec is None or check.document is None:
+        return findings
+    doc, spec = check.document, check.spec
+    series = standard_cutoffs_mm()
+    names = {r.parameter for r in spec.requirements}
+    seen: set[tuple[int | None, int | None, str]] = set()
+
+    def add(
+        line: int | None, col: int | None, severity: Literal["error", "warning"], message: str
+    ) -> None:
+        if (line, col, message) in seen:
+            return
+        seen.add((line, col, message))
+        findings.append(Finding(p, line, col, severity, message))
+
+    for req in spec.requirements:
+        line, col = _req_position(req)
+        if req.lambda_c_source.startswith("measurement.cutoff"):
+            line, col = _at(doc, ("measurement", "cutoff"))
+        standard = any(abs(req.lambda_c_mm - s) <= 1e-9 * s for s in series)
+        if not standard:
+            listed = ", ".join(f"{s:g}" for s in series)
+            add(
+                line,
+                col,
+                "error",
+                f"cut-off λc {req.lambda_c_mm:g} mm is not in the standard series ({listed} mm; "
+                "ISO 4288:1996, ISO 3274:1996 Table 1)",
+            )
+        elif req.lambda_s_um is not None:
+            try:
+                expected = iso3274_lambda_s_um(req.lambda_c_mm)
+            except SpeccheckError:  # pragma: no cover - standard λc always has a row
+                expected = None
+            if expected is not None and abs(req.lambda_s_um - expected) > 1e-9 * expected:
+                ls_line, ls_col = _req_position(req)
+                if req.lambda_s_source.startswith("measurement.ls"):
+                    ls_line, ls_col = _at(doc, ("measurement", "ls"))
+                add(
+                    ls_line,
+                    ls_col,
+                    "warning",
+                    f"λs {req.lambda_s_um:g} µm with λc {req.lambda_c_mm:g} mm is not the ISO "
+                    "3274:1996 "
+                    f"Table 1 pair (λs {expected:g} µm); results differ from a standard "
+                    "measurement",
+                )
+        parsed = parse_parameter_name(req.parameter)
+        base = parsed.base if parsed is not None else ""
+        if base in _SENSITIVE_WHY:
+            why, stable = _SENSITIVE_WHY[base]
+            if not (names & stable):
+                r_line, r_col = _req_position(req)
+                add(
+                    r_line,
+                    r_col,
+                    "warning",
+                    f"{req.parameter} rests on a few points ({why}) and nothing else in the spec "
+                    f"controls this property; consider {_ALTERNATIVES}",
+                )
+        if req.decision_rule != "simple" and req.uncertainty is None:
+            r_line, r_col = _req_position(req)
+            add(
+                r_line,
+                r_col,
+                "warning",
+                f"decision rule {req.decision_rule} but no uncertainty for {req.parameter}: "
+                "the guard band is zero (add it under 'uncertainty')",
+            )
+    if check.model is not None:
+        for key in check.model.uncertainty:
+            parsed = parse_parameter_name(str(key))
+            if parsed is not None and parsed.name not in names:
+                u_line, u_col = _at(doc, ("uncertainty", key))
+                add(
+                    u_line,
+                    u_col,
+                    "warning",
+                    f"uncertainty for {parsed.name} but no requirement on {parsed.name}",
+                )
+    order = {"error": 0, "warning": 1}
+    findings.sort(key=lambda f: (f.line or 0, f.col or 0, order[f.severity]))
+    return findings
+
+
+def lint_paths(paths: list[str | Path]) -> tuple[list[Finding], bool]:
+    """Lint several files; returns all findings and whether any is an error."""
+    findings: list[Finding] = []
+    for path in paths:
+        findings.extend(lint_file(path))
+    return findings, any(f.severity == "error" for f in findings)

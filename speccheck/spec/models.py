@@ -1,0 +1,153 @@
+"""Pydantic models of a specification file (YAML), as written by its author.
+
+These models check the *shape* of the file: which keys exist, which are required, which values
+are allowed. Units, callout grammar, parameter names and defaults are checked and resolved
+afterwards by :mod:`speccheck.spec.resolve`, which can point at the character concerned.
+``speccheck schema`` prints :func:`spec_json_schema`.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Discriminator, Field, Tag
+
+__all__ = [
+    "Part",
+    "Measurement",
+    "Diagnostics",
+    "RequirementFields",
+    "RequirementItem",
+    "SpecFile",
+    "FORMS",
+    "model_at",
+    "spec_json_schema",
+]
+
+#: Form removed before filtering (same names as speccheck.parameters.conditions.FORMS).
+FORMS = ("line", "arc", "poly2", "poly3", "poly4", "poly5", "poly6", "none")
+Form = Literal["line", "arc", "poly2", "poly3", "poly4", "poly5", "poly6", "none"]
+# A length or limit with its unit, e.g. "0.8mm", "2.5um", "0.4 µm", "70%". Numbers are accepted
+# by the schema so that the resolver can say precisely that the unit is missing.
+ValueText = str | float | int
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+
+class Part(_Strict):
+    """The part and surface the specification applies to."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True, coerce_numbers_to_str=True)
+
+    number: str = Field(description="Part number, e.g. KFP-2041.")
+    revision: str = Field(description="Drawing revision.")
+    surface: str = Field(description="Which surface of the part, e.g. 'seal seat'.")
+    name: str | None = None
+    supplier: str | None = None
+    drawing: str | None = None
+
+
+class Measurement(_Strict):
+    """Defaults for every requirement that does not state its own."""
+
+    cutoff: ValueText | None = Field(default=None, description="λc with unit, e.g. '0.8mm'.")
+    ls: ValueText | None = Field(
+        default=None, description="λs with unit, e.g. '2.5um', or 'none' (no λs filter)."
+    )
+    sections: int | None = Field(
+        default=None, ge=1, description="Sections in the evaluation length (default 5)."
+    )
+    filter: Literal["gaussian", "robust"] | None = None
+    form: Form | None = None
+    value_per: Literal["evaluation-length", "section"] = "evaluation-length"
+
+
+class Diagnostics(_Strict):
+    """What to do when a value rests on a few isolated points."""
+
+    isolated_features: Literal["report", "undecided"] = "report"
+
+
+class RequirementFields(_Strict):
+    """A requirement written as a mapping instead of callout text."""
+
+    parameter: str = Field(description="Parameter, e.g. 'Ra', 'Rz3', 'Rpk', 'Rmr(0.5)'.")
+    upper: ValueText | None = Field(
+        default=None, description="Upper limit with unit: '0.8um', '70%'."
+    )
+    lower: ValueText | None = Field(default=None, description="Lower limit with unit.")
+    rule: Literal["16%", "max"] | None = None
+    cutoff: ValueText | None = Field(default=None, description="λc with unit, e.g. '0.8mm'.")
+    ls: ValueText | None = Field(default=None, description="λs with unit, or 'none'.")
+    sections: int | None = Field(default=None, ge=1)
+    filter: Literal["gaussian", "robust"] | None = None
+    form: Form | None = None
+
+
+def _requirement_kind(value: Any) -> str | None:
+    if isinstance(value, str):
+        return "callout"
+    if isinstance(value, dict) or isinstance(value, RequirementFields):
+        return "fields"
+    return None
+
+
+RequirementItem = Annotated[
+    Annotated[str, Tag("callout")] | Annotated[RequirementFields, Tag("fields")],
+    Discriminator(
+        _requirement_kind,
+        custom_error_type="requirement_form",
+        custom_error_message=(
+            "a requirement is callout text such as 'Ra 0.8' or a mapping with 'parameter'"
+        ),
+    ),
+]
+
+
+class SpecFile(_Strict):
+    """A surface-finish specification file (``spec_version: 1``)."""
+
+    model_config = ConfigDict(
+        extra="forbid",
+        frozen=True,
+        title="speccheck specification",
+        json_schema_extra={"$comment": "speccheck specification file, spec_version 1"},
+    )
+
+    spec_version: Literal[1]
+    part: Part
+    requirements: list[RequirementItem] = Field(min_length=1)
+    measurement: Measurement = Field(default_factory=lambda: Measurement())
+    convention: Literal["iso1302", "iso21920", "asme"] = "iso1302"
+    decision_rule: Literal["simple", "guarded-acceptance", "guarded-rejection"] = "simple"
+    uncertainty: dict[str, ValueText] = Field(
+        default_factory=dict,
+        description="Expanded uncertainty U (k = 2) per parameter, with unit: {'Ra': '0.05um'}.",
+    )
+    diagnostics: Diagnostics = Field(default_factory=lambda: Diagnostics())
+    notes: str | None = None
+
+
+def model_at(path: tuple[str | int, ...]) -> type[BaseModel] | None:
+    """The model whose fields are the keys at ``path`` (``()``, ``("part",)``, ...)."""
+    if path == ():
+        return SpecFile
+    if len(path) == 1:
+        sections: dict[str, type[BaseModel]] = {
+            "part": Part,
+            "measurement": Measurement,
+            "diagnostics": Diagnostics,
+        }
+        return sections.get(str(path[0]))
+    if len(path) == 2 and path[0] == "requirements" and isinstance(path[1], int):
+        return RequirementFields
+    return None
+
+
+def spec_json_schema() -> dict[str, Any]:
+    """JSON Schema (draft 2020-12) of specification files, from the pydantic models."""
+    schema = SpecFile.model_json_schema()
+    schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
+    return schema

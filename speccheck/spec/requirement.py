@@ -1,0 +1,67 @@
+"""The resolved specification: what the evaluator applies, every default filled in with its source.
+
+:class:`Requirement` and :class:`LoadedSpec` are plain frozen dataclasses; they are produced by
+:func:`speccheck.spec.loader.load_spec` and read by the evaluation and report layers. Limits are
+in ``Requirement.unit`` (the parameter's unit), lengths carry their unit in their names.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+__all__ = ["Requirement", "LoadedSpec", "Convention", "DecisionRule", "Rule"]
+
+Convention = Literal["iso1302", "iso21920", "asme"]
+DecisionRule = Literal["simple", "guarded-acceptance", "guarded-rejection"]
+Rule = Literal["16%", "max"]
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """One requirement on one parameter, one- or two-sided, with every default resolved."""
+
+    text: str  # callout as written, or rendered from the structured mapping (callout grammar)
+    parameter: str  # canonical computed name (ParsedName.name): "Ra", "Rz", "Rmr(0.5)", "Mr1"
+    sections: int  # 5 by default; 3 for "Rz3"
+    upper: float | None  # in `unit`
+    lower: float | None
+    unit: str  # names.PARAMETERS[base].unit ("µm", "%", "mm", "")
+    rule: Rule
+    rule_source: str
+    filter: Literal["gaussian", "robust"]
+    lambda_c_mm: float
+    lambda_c_source: str
+    lambda_s_um: float | None  # None: no λs filter (data already short-wave filtered)
+    lambda_s_source: str
+    cutoff_table: Literal["iso4288", "iso21920-3"]
+    decision_rule: DecisionRule
+    uncertainty: float | None  # expanded uncertainty U (k = 2) in `unit`, None if not given
+    form: str  # "line" (default), "arc", "poly2".."poly6", "none"
+    location: str  # "line 12, col 5" of the requirement in the YAML
+    # Sources of the remaining resolved values (for `speccheck explain` and reports).
+    sections_source: str = ""
+    filter_source: str = ""
+    form_source: str = ""
+    uncertainty_source: str = ""
+
+    @property
+    def evaluation_length_mm(self) -> float:
+        """sections × λc (ISO 4288:1996 4.4: sampling length lr = λc)."""
+        return self.sections * self.lambda_c_mm
+
+
+@dataclass(frozen=True)
+class LoadedSpec:
+    """A specification file, read, validated and resolved."""
+
+    path: str
+    sha256: str
+    raw: bytes  # the file exactly as read
+    part: dict[str, str]  # number, revision, surface, (name, supplier, drawing)
+    convention: Convention
+    decision_rule: DecisionRule
+    value_per: Literal["evaluation-length", "section"]
+    isolated_features: Literal["report", "undecided"]
+    notes: str | None
+    requirements: tuple[Requirement, ...]

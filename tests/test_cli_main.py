@@ -1,0 +1,46 @@
+"""The command line as a whole: every command has help, version, one-line errors."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import pytest
+
+from speccheck._version import __version__
+from speccheck.cli.main import COMMANDS, main
+
+
+def test_version(capsys):
+    assert main(["--version"]) == 0
+    assert capsys.readouterr().out.strip() == f"speccheck, version {__version__}"
+
+
+def test_help_lists_every_command(capsys):
+    assert main(["--help"]) == 0
+    out = capsys.readouterr().out
+    for name in COMMANDS:
+        assert f"  {name} " in out
+
+
+@pytest.mark.parametrize("name", sorted(COMMANDS))
+def test_every_command_has_help(name, capsys):
+    assert main([name, "--help"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("Usage: speccheck " + name)
+    # a command's own docstring, not an empty help
+    body = out.split("\n\n", 2)[1].strip()
+    assert len(body) > 20
+
+
+def test_unknown_command_is_a_usage_error(capsys):
+    assert main(["no-such-command"]) == 2
+    assert "No such command" in capsys.readouterr().err
+
+
+def test_python_dash_m_runs():
+    out = subprocess.run(
+        [sys.executable, "-m", "speccheck", "--version"], capture_output=True, text=True
+    )
+    assert out.returncode == 0
+    assert __version__ in out.stdout
