@@ -33,7 +33,10 @@ def atomic_write_with(path: Path, write: Callable[[Path], None]) -> None:
 
 
 def atomic_write_bytes(path: Path, data: bytes) -> None:
-    atomic_write_with(Path(path), lambda p: p.write_bytes(data))
+    def write(p: Path) -> None:
+        p.write_bytes(data)
+
+    atomic_write_with(Path(path), write)
 
 
 def atomic_write_text(path: Path, text: str) -> None:

@@ -80,7 +80,7 @@ class Profile:
 
     z_um: np.ndarray
     dx_um: float
-    valid: np.ndarray = field(default=None)  # type: ignore[assignment]
+    valid: np.ndarray = field(default=None)  # type: ignore[assignment,arg-type]
     source: SourceInfo = field(default_factory=SourceInfo)
     dropouts: DropoutReport = field(default_factory=DropoutReport)
 

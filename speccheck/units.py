@@ -128,13 +128,14 @@ def parse_length(
         if not m:
             raise SpeccheckError(f"cannot read {text!r} as a length such as '0.8mm'", path=path, where=where)
         value = float(m.group(1))
-        unit = m.group(2) or default_unit
-        if unit is None:
+        found: str | None = m.group(2) or default_unit
+        if found is None:
             raise SpeccheckError(
                 f"length {text!r} has no unit (write e.g. '{text}um' or '{text}mm')",
                 path=path,
                 where=where,
             )
+        unit = found
     if not math.isfinite(value):
         raise SpeccheckError(f"length {text!r} is not a finite number", path=path, where=where)
     c = canonical_unit(unit)

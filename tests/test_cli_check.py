@@ -80,10 +80,8 @@ def test_undecided_exit_3_with_next_step(tmp_path, spec_file, capsys):
     assert status == 3
     assert "Result: UNDECIDED" in out
     flat = " ".join(out.split())
-    assert (
-        "Next for #1 (Ra 0.8): measure 2 more profiles where the highest values are expected (ISO 4288)."
-        in flat
-    )
+    expected = "measure 2 more profiles where the highest values are expected (ISO 4288)."
+    assert f"Next for #1 (Ra 0.8): {expected}" in flat
 
 
 def test_json_to_file_matches_library_result(tmp_path, spec_file, capsys):
@@ -147,8 +145,8 @@ def test_spec_error_exit_2_and_old_json_intact(tmp_path, capsys):
     status, out, err = run(["check", str(spec), p, "--json", str(out_json)], capsys)
     assert status == 2 and out == ""
     assert err == (
-        f"speccheck: error: {spec}:line 5, col 5: Ra 0.8: decision rule guarded-acceptance needs the "
-        "expanded uncertainty U of Ra (add it under 'uncertainty')\n"
+        f"speccheck: error: {spec}:line 5, col 5: Ra 0.8: decision rule guarded-acceptance "
+        "needs the expanded uncertainty U of Ra (add it under 'uncertainty')\n"
     )
     assert out_json.read_text(encoding="utf-8") == "old"  # nothing half-written, old file kept
     assert [f.name for f in tmp_path.iterdir() if f.name.startswith(".r.json")] == []
@@ -166,6 +164,12 @@ def test_sign_needs_report(tmp_path, spec_file, capsys):
     p = profile_file(tmp_path, "a", 0.4)
     status, _, err = run(["check", spec_file, p, "--sign", "key.p12"], capsys)
     assert (status, err) == (2, "speccheck: error: --sign needs --report OUT.pdf\n")
+
+
+def test_passphrase_file_needs_sign(tmp_path, spec_file, capsys):
+    p = profile_file(tmp_path, "a", 0.4)
+    status, _, err = run(["check", spec_file, p, "--passphrase-file", "pw.txt"], capsys)
+    assert (status, err) == (2, "speccheck: error: --passphrase-file needs --sign KEY.p12\n")
 
 
 def test_db_needs_record(tmp_path, spec_file, capsys):
@@ -243,3 +247,34 @@ def test_signed_report_and_record(tmp_path, spec_file, capsys, monkeypatch):
     status, _, err = run(args2, capsys)
     assert status == 2 and err.startswith("speccheck: error: ") and err.count("\n") == 1
     assert not pdf2.exists()
+
+
+def test_values_in_the_uncertainty_range_are_marked(tmp_path, capsys):
+    # ISO 14253-1: Ra 0.78 lies within ±U = 0.05 of 0.8; guarded acceptance counts it exceeding
+    spec = tmp_path / "g.yaml"
+    spec.write_text(
+        "spec_version: 1\npart: {number: KFP-3310, revision: B, surface: bore}\n"
+        "measurement: {ls: none}\ndecision_rule: guarded-acceptance\n"
+        'uncertainty: {Ra: 0.05um}\nrequirements:\n  - "Ra max 0.8"\n',
+        encoding="utf-8",
+    )
+    p = profile_file(tmp_path, "a", 0.78)
+    status, out, _ = run(["check", str(spec), p], capsys)
+    assert status == 1
+    flat = " ".join(out.split())
+    assert "0.78 (±U, counted exceeding)" in flat
+    assert "conformity is not proven because values lie within U of a limit." in flat
+
+
+def test_z_only_file_with_dx_and_decimal_comma(tmp_path, spec_file, capsys):
+    # a z-only column with decimal commas: spacing from --dx, separator from --decimal
+    z = (0.40 / RA_PER_AMPLITUDE) * np.sin(2 * np.pi * np.arange(11201) * 0.5 / 50.0)
+    path = tmp_path / "z.txt"
+    path.write_text("z [um]\n" + "".join(f"{v:.6f}".replace(".", ",") + "\n" for v in z))
+    args = ["check", spec_file, str(path), "--dx", "0.5um", "--decimal", ",", "--json", "-"]
+    status, out, _ = run(args, capsys)
+    assert status == 0
+    d = json.loads(out)
+    assert d["measurements"][0]["spacing_um"] == 0.5
+    # rel 1e-5: heights written with 6 decimals (±5e-7 µm each)
+    assert d["requirements"][0]["values"][0]["value"] == pytest.approx(0.40, rel=1e-5)

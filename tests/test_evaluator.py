@@ -55,7 +55,8 @@ def write_spec(tmp_path, requirements: str, extra: str = "", measurement: str = 
     text = textwrap.dedent(
         """\
         spec_version: 1
-        part: {number: KFP-2041, revision: C, surface: seal seat, supplier: Ardent Precision Grinding}
+        part: {number: KFP-2041, revision: C, surface: seal seat,
+               supplier: Ardent Precision Grinding}
         """
     )
     text += f"measurement: {measurement}\n"
@@ -299,7 +300,7 @@ def test_guarded_rule_without_uncertainty_is_a_spec_error(tmp_path):
     spec = write_spec(tmp_path, '- "Ra 0.8"\n', "decision_rule: guarded-acceptance\n")
     with pytest.raises(
         SpecError,
-        match=r"spec\.yaml:line 5, col 5: Ra 0\.8: decision rule guarded-acceptance needs",
+        match=r"spec\.yaml:line 6, col 5: Ra 0\.8: decision rule guarded-acceptance needs",
     ):
         evaluate(spec, [sine(1.0)])
 
@@ -356,3 +357,48 @@ def test_no_profiles_is_undecided(tmp_path):
         "undecided",
         "measure 1 more profile where the highest values are expected (ISO 4288)",
     )
+
+
+def test_no_core_for_rk_is_parameter_not_computed(tmp_path):
+    # ISO 13565-2 needs a material ratio curve with a core; a flat trace has none
+    spec = write_spec(tmp_path, "- {parameter: Rk, upper: 2um, cutoff: 0.8mm}\n")
+    flat = Profile(np.zeros(FULL_POINTS), DX_UM, source=SourceInfo(path="flat.csv", sha256="s"))
+    r = evaluate(spec, [flat], created="t").requirements[0]
+    assert (r.verdict, r.reason) == ("undecided", "parameter-not-computed")
+    assert r.values[0].note.startswith("parameter-not-computed: no core found for Rk")
+
+
+def test_parameters_computed_once_per_conditions(tmp_path, monkeypatch):
+    # three requirements, two sets of conditions (λc 0.8 mm; λc 2.5 mm) -> 2 computations/profile
+    import speccheck.parameters.compute as compute
+
+    calls = []
+    real = compute.compute_parameters
+
+    def counting(z_um, *, dx_um, conditions, extra=()):
+        calls.append((conditions.lambda_c_mm, tuple(extra)))
+        return real(z_um, dx_um=dx_um, conditions=conditions, extra=extra)
+
+    monkeypatch.setattr(compute, "compute_parameters", counting)
+    spec = write_spec(
+        tmp_path,
+        """\
+        - "Ra 0.8"
+        - "Rz max 6.3"
+        - {parameter: Rmr(0.5), lower: 10%, cutoff: 2.5mm}
+        """,
+    )
+    long = sine(1.0, points=7 * 5000 + 1, dx_um=0.5)  # 17.5 mm: enough for λc 2.5 mm
+    res = evaluate(spec, [long, long], created="t")
+    assert sorted(calls) == [(0.8, ()), (0.8, ()), (2.5, ("Rmr(0.5)",)), (2.5, ("Rmr(0.5)",))]
+    assert res.requirements[2].values[0].unit == "%"
+
+
+def test_each_unusable_measurement_gets_its_own_next_step(tmp_path):
+    spec = write_spec(tmp_path, '- "Ra 0.8"\n')
+    short = sine(1.0, points=6000, name="short")
+    coarse = sine(1.0, points=5601, dx_um=1.0, name="coarse")
+    r = evaluate(spec, [short, coarse], created="t").requirements[0]
+    assert r.reason == "insufficient-data"
+    assert "measurement 1: trace 3 mm is shorter" in r.next
+    assert "measurement 2: sampling spacing 1 µm is coarser" in r.next

@@ -98,6 +98,25 @@ def test_small_ripple_is_merged_by_height_discrimination():
     assert np.mean(raw.widths_um) / 1000 < 0.6 * lam_mm
 
 
+def test_narrow_spike_is_merged_by_width_discrimination():
+    """Sine of amplitude A, 10 periods of 400 samples in the section (1 % of the section = 40
+    samples); in every valley a 10-sample pulse rises to +0.5A, crossing the mean line.
+
+    The pulse is a peak of height 0.5A ≥ 10 % of Rz = 2A but only 10 samples wide, < 1 % of the
+    section (ISO 4287:1997 3.2.9 width discrimination), so it is no peak of its own and
+    RSm = λ; the pulses repeat every period, so every element is one period wide. Without
+    discrimination each pulse adds an element and RSm drops to about λ/2.
+    """
+    n = 400
+    z = sine(10, n, phase=0.05)
+    i = np.arange(z.size) % n
+    z[(i >= 295) & (i < 305)] = 0.5 * A_UM  # centred on the valley at 3/4 of each period
+    lam_mm = n * DX_UM / 1000
+    assert spacing.mean_width_of_elements_mm(z, dx_um=DX_UM) == pytest.approx(lam_mm, rel=1e-9)
+    raw = spacing.profile_elements(z, dx_um=DX_UM, height_fraction=0.0, width_fraction=0.0)
+    assert np.mean(raw.widths_um) / 1000 < 0.6 * lam_mm
+
+
 def test_sine_material_ratio_arccos():
     """Rmr(c) of a sine: level A − c is reached where sin θ ≥ 1 − c/A, a phase range of
     π − 2 arcsin(1 − c/A) per period, so Rmr(c) = arccos(1 − c/A)/π · 100 %.

@@ -13,6 +13,8 @@ import zipfile
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
@@ -338,3 +340,30 @@ def test_comments_and_blank_lines_between_rows(tmp_path):
     (tmp_path / "k.csv").write_text("x [mm],z [um]\n" + "\n".join(rows) + "\n")
     with pytest.raises(InputError, match=r"k\.csv:line 22, column 2: not a number: 'x"):
         read_profile(tmp_path / "k.csv")
+
+
+finite_heights = st.lists(
+    st.floats(min_value=-1e4, max_value=1e4, allow_nan=False, allow_subnormal=False),
+    min_size=16,
+    max_size=60,
+)
+
+
+@settings(max_examples=40, deadline=None)
+@given(z=finite_heights, dx=st.sampled_from([0.1, 0.5, 1.5, 2.54, 10.0]))
+def test_round_trips_for_any_heights(tmp_path_factory, z, dx):
+    # Property: text forms are bit-exact (shortest repr of IEEE 754 doubles reads back exactly);
+    # X3P stores metres: within 1 ulp (see test_x3p_float64_round_trip_within_one_ulp), and
+    # heights below ~1e-290 µm turn subnormal in metres, hence atol 1e-12 µm (1e-18 m, far
+    # below any instrument's resolution).
+    folder = tmp_path_factory.mktemp("rt")
+    p = Profile(z_um=np.array(z), dx_um=dx)
+    write_csv(folder / "p.csv", p)
+    write_sdf(folder / "p.sdf", p)
+    write_x3p(folder / "p.x3p", p)
+    for ext in ("csv", "sdf"):
+        q = read_profile(folder / f"p.{ext}")
+        assert np.array_equal(q.z_um, p.z_um), ext
+        assert q.dx_um == pytest.approx(dx, rel=1e-9)
+    x3p = read_profile(folder / "p.x3p").z_um
+    np.testing.assert_allclose(x3p, p.z_um, rtol=2.3e-16, atol=1e-12)

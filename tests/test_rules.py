@@ -10,7 +10,7 @@ choices of speccheck.evaluation.rules, tested here as such.
 from __future__ import annotations
 
 import pytest
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from speccheck.evaluation.rules import (
@@ -158,6 +158,7 @@ def test_apply_rule_rejects_unknown_rule():
 _RANK = {"nonconforming": 0, "undecided": 1, "conforming": 2}
 
 
+@settings(derandomize=True, max_examples=300)
 @given(
     flags=st.lists(st.booleans(), min_size=0, max_size=30),
     first_low=st.booleans(),
@@ -179,6 +180,7 @@ def test_more_exceeding_never_improves(flags, first_low, index, rule):
     assert _RANK[after.verdict] <= _RANK[before.verdict]
 
 
+@settings(derandomize=True, max_examples=300)
 @given(flags=st.lists(st.booleans(), max_size=12))
 def test_undecided_further_is_the_smallest_that_can_conform(flags):
     # the stated number of further values, all not exceeding, conforms; one fewer does not

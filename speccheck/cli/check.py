@@ -51,8 +51,8 @@ def _values_text(req: Any) -> str:
             out.append("not evaluated")
             continue
         mark = " (exceeding)" if v.counts_as == "exceeding" else ""
-        if v.zone == "uncertain" and v.counts_as != "exceeding":
-            mark = " (within U)"
+        if v.zone == "uncertain":  # within ±U of a limit: say how the decision rule counted it
+            mark = f" (±U, counted {'exceeding' if v.counts_as == 'exceeding' else 'within'})"
         out.append(f"{_num(v.value)}{mark}")
     return ", ".join(out) or "none"
 
@@ -167,6 +167,8 @@ def command(
     """
     if sign_p12 and not report_out:
         raise SpeccheckError("--sign needs --report OUT.pdf")
+    if passphrase_file and not sign_p12:
+        raise SpeccheckError("--passphrase-file needs --sign KEY.p12")
     if db and not record:
         raise SpeccheckError("--db needs --record")
     from speccheck.evaluation.evaluator import evaluate, load_inputs

@@ -13,7 +13,6 @@ __all__ = ["command"]
     "out",
     default="speccheck-demo",
     show_default=True,
-    type=click.Path(file_okay=False),
     help="Folder for the demo files (created if missing).",
 )
 def command(out: str) -> int:

@@ -71,9 +71,15 @@ def main(argv: list[str] | None = None) -> int:
     except click.exceptions.Abort:
         click.echo("speccheck: aborted", err=True)
         rv = ExitStatus.ERROR
+    except click.UsageError as exc:
+        cmd = exc.ctx.command_path if exc.ctx is not None else "speccheck"
+        msg = " ".join(exc.format_message().split())
+        click.echo(f"speccheck: error: {msg} (see '{cmd} --help')", err=True)
+        rv = ExitStatus.ERROR
     except click.ClickException as exc:
-        exc.show()
-        rv = ExitStatus.ERROR if exc.exit_code in (1, 2) else exc.exit_code
+        msg = " ".join(exc.format_message().split())
+        click.echo(f"speccheck: error: {msg}", err=True)
+        rv = ExitStatus.ERROR
     except KeyboardInterrupt:
         click.echo("speccheck: interrupted", err=True)
         rv = ExitStatus.ERROR

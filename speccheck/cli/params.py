@@ -247,7 +247,8 @@ def _print_table(out: dict[str, Any]) -> None:
             f"λc {est['lambda_c_mm']:g} mm; {choice['message']}"
         )
     table = Table(box=None, pad_edge=False)
-    for col in ("parameter", "value", "unit", *(f"s{i + 1}" for i in range(len(sections)))):
+    shown = sections if len(sections) > 1 else []  # one section: its values are the values
+    for col in ("parameter", "value", "unit", *(f"s{i + 1}" for i in range(len(shown)))):
         table.add_column(col, justify="left" if col in ("parameter", "unit") else "right")
     for heading, bases in _FAMILIES:
         rows = [n for n in params if (p := parse_parameter_name(n)) is not None and p.base in bases]
@@ -255,11 +256,7 @@ def _print_table(out: dict[str, Any]) -> None:
             continue
         table.add_row(f"[bold]{heading}[/bold]")
         for name in rows:
-            per = (
-                [_fmt(s[name]["value"]) if name in s else "" for s in sections]
-                if len(sections) > 1
-                else []
-            )
+            per = [_fmt(s[name]["value"]) if name in s else "" for s in shown]
             table.add_row(f"  {name}", _fmt(params[name]["value"]), params[name]["unit"], *per)
     console.print(table)
     for note in out["notes"]:

@@ -123,8 +123,11 @@ def audit(db: str | None, archive: str | None, as_json: bool) -> int:
     else:
         for f in res.findings:
             click.echo(f"{'TAMPERED' if f.tampering else 'note'}: {f.message}")
-        state = "intact" if res.intact else "NOT intact"
-        extra = f", {res.reevaluated} result(s) re-evaluated" if archive else ""
+        state = "intact" if res.chain_intact else "NOT intact"
+        extra = ""
+        if archive:
+            extra = f", {res.reevaluated} result(s) re-evaluated"
+            extra += f", {res.verdicts_differ} verdict(s) differ"
         click.echo(f"{res.records} records, chain {state}{extra}; head {res.head_hash}")
     return 0 if res.intact else 1
 
@@ -161,7 +164,8 @@ def trend(
         return "–" if x is None else f"{x:.4g}"
 
     click.echo(
-        f"{part} {parameter}: {cap.n} values, limits lower {num(tr.lower)} upper {num(tr.upper)}{unit}"
+        f"{part} {parameter}: {cap.n} values, "
+        f"limits lower {num(tr.lower)} upper {num(tr.upper)}{unit}"
     )
     click.echo(
         f"mean {num(cap.mean)}{unit}, s {num(cap.sd)}{unit}, Cp {num(cap.cp)}, Cpk {num(cap.cpk)}"

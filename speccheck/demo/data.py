@@ -344,6 +344,8 @@ def write_demo_data(folder: str | Path, *, seed: int = DEMO_SEED) -> list[Path]:
     from speccheck.readers import write_csv, write_x3p
 
     folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise SpeccheckError("exists and is not a folder", path=str(folder))
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:

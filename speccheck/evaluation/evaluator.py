@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import hashlib
 import math
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -201,7 +202,9 @@ def _parameter_values(
     spec: LoadedSpec, req: Requirement, index: int, ps: ParameterSet
 ) -> list[_Value]:
     name = req.parameter
-    notes = [n for n in ps.notes if n.startswith(f"{name}:") or name in n.split()]
+    word = re.compile(rf"(^|[\s(]){re.escape(name)}($|[\s:,)])")
+    notes = [n for n in ps.notes if n.startswith(f"{name}:")]
+    notes += [n for n in ps.notes if word.search(n) and re.search(r"\bno(t)?\b", n)]
     note = notes[0] if notes else f"{name} could not be computed on this profile"
     missing = _Unknown(
         "parameter-not-computed",
@@ -284,7 +287,8 @@ def _limits_text(req: Requirement) -> str:
         return f"limits {_fmt(req.lower)}{u} to {_fmt(req.upper)}{u}"
     if req.upper is not None:
         return f"upper limit {_fmt(req.upper)}{u}"
-    return f"lower limit {_fmt(req.lower)}{u}"  # type: ignore[arg-type]
+    assert req.lower is not None
+    return f"lower limit {_fmt(req.lower)}{u}"
 
 
 def _further_text(n: int, per_section: bool, sections: int) -> str:
@@ -323,7 +327,7 @@ def _requirement_result(
         exceeding = any(
             counts_as_exceeding(
                 v.value, limit=lim, side=side, decision_rule=req.decision_rule, uncertainty=u
-            )  # type: ignore[arg-type]
+            )
             for side, lim in _sides(req)
         )
         records.append(
@@ -362,15 +366,13 @@ def _requirement_result(
     if verdict == "undecided":
         parts = []
         if outcome.unknown_decisive and unknowns:
-            reason = unknowns[0].unknown.status  # type: ignore[union-attr]
-            seen: list[int] = []
+            by_measurement: dict[int, _Unknown] = {}
             for v in unknowns:
-                if v.measurement not in seen:
-                    seen.append(v.measurement)
-            first = unknowns[0].unknown
-            assert first is not None
-            which = ", ".join(str(i + 1) for i in seen)
-            parts.append(f"measurement {which}: {first.note}; {first.action}")
+                assert v.unknown is not None
+                by_measurement.setdefault(v.measurement, v.unknown)
+            reason = next(iter(by_measurement.values())).status
+            for i, unk in by_measurement.items():
+                parts.append(f"measurement {i + 1}: {unk.note}; {unk.action}")
             if outcome.further is not None:
                 more = _further_text(outcome.further, per_section, req.sections)
                 parts.append(f"or measure {more} {_where_text(req)} (ISO 4288)")
@@ -436,15 +438,48 @@ def _requirement_result(
 
 
 def _attach_diagnostics(
-    spec: LoadedSpec, results: list[RequirementResult], computed: dict[tuple[int, Conditions], Any]
+    spec: LoadedSpec,
+    results: list[RequirementResult],
+    conds: list[Conditions],
+    computed: dict[tuple[int, Conditions], Any],
 ) -> None:
-    """DIAGNOSTICS HOOK: the one place where speccheck.diagnostics results join the result.
+    """Attach robustness diagnostics to each requirement; apply the spec's opt-in policy.
 
-    Not wired yet: ``RequirementResult.diagnostics`` stays empty. When wired, each entry follows
-    the JSON contract ``{"parameters", "severity", "message", "features", "without_features"}``
-    and ``spec.isolated_features == "undecided"`` may turn a verdict into undecided.
+    Diagnostics never change a verdict unless the spec says ``isolated_features: undecided``;
+    then a decided requirement whose parameter rests on isolated features becomes undecided
+    with reason ``isolated-features``.
     """
-    return None
+    from speccheck.diagnostics import diagnose, policy_outcome
+
+    for res, cond in zip(results, conds, strict=True):
+        found = []
+        diags = []
+        for (i, c), ps in sorted(computed.items(), key=lambda kv: kv[0][0]):
+            if c != cond or not ps:
+                continue
+            for d in diagnose(ps, requested=[res.parameter]):
+                diags.append(d)
+                found.append({"measurement": i, **d.to_dict()})
+        res.diagnostics = found
+        if res.verdict == "undecided" or not found:
+            continue
+        if policy_outcome(diags, spec.isolated_features) is None:
+            continue
+        where = ", ".join(
+            f"profile {d['measurement'] + 1} at x = {f['x_mm']:.3f} mm"
+            for d in found
+            for f in d.get("features", [])
+        )
+        res.verdict = "undecided"
+        res.reason = "isolated-features"
+        res.explanation = (
+            f"{res.parameter} rests on isolated features ({where}); the specification asks "
+            "for such results to be decided by inspection, not by the value alone."
+        )
+        res.next = (
+            "examine the surface at the features named; if they are damage, judge them under "
+            "the drawing's surface-imperfection requirements and re-measure clear of them"
+        )
 
 
 def _overall(results: list[RequirementResult]) -> tuple[Verdict, str | None]:
@@ -547,7 +582,7 @@ def evaluate(
                 found[i][key] = entry
         results.append(_requirement_result(spec, req, cond, values))
 
-    _attach_diagnostics(spec, results, computed)
+    _attach_diagnostics(spec, results, conds, computed)
 
     measurements = []
     for i, (raw, p) in enumerate(zip(profiles, prepared, strict=True)):

@@ -5,7 +5,8 @@ a decision rule (:mod:`speccheck.evaluation.decision`) as *exceeding* its limit 
 exceeding* (False), or *unknown* (None: the measurement could not be evaluated). "Exceeding" is
 the side-neutral word: above an upper limit, below a lower limit.
 
-The 16 % rule as applied here (ISO 4288:1996 clause 5.2, step procedure for an upper limit):
+The 16 % rule as applied here (ISO 4288:1996 clause 5.2, step procedure for an upper limit;
+the clause numbers 5.2 and 5.3 are from memory):
 
 ====  =====================================================  ===================
 step  the surface conforms when                              values needed

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 from speccheck._atomic import atomic_write_text
 
@@ -71,7 +72,7 @@ notes: Parts drawn at random from the delivery; profiles traced across the lay.
 """
 
 
-def build_demo_lot(folder: str | Path, *, ground_profile: Callable[..., object]) -> Path:
+def build_demo_lot(folder: str | Path, *, ground_profile: Callable[..., Any]) -> Path:
     """Write the demo lot (plan, spec, profiles) into ``folder``; return the plan's path.
 
     Parameters

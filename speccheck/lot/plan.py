@@ -208,7 +208,7 @@ def load_plan(path: str | Path) -> LoadedPlan:
     try:
         model = _models().model_validate(doc.data)
     except ValidationError as exc:
-        errors = []
+        errors: list[tuple[int, int, int, str]] = []
         for e in exc.errors(include_url=False):
             loc = tuple(e["loc"])
             line, col = doc.position(loc)
@@ -224,8 +224,8 @@ def load_plan(path: str | Path) -> LoadedPlan:
                     else e["msg"]
                 )
                 msg = f"{_key_text(loc)}: {detail}" if loc else detail
-            errors.append((line, col, msg))
-        line, col, msg = min(errors)
+            errors.append((line, col, len(errors), msg))
+        line, col, _, msg = min(errors)
         raise SpecError(msg, path=p, where=where(line, col)) from None
 
     base = Path(path).resolve().parent

@@ -11,6 +11,7 @@ from __future__ import annotations
 import hashlib
 import io
 import json
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -31,7 +32,7 @@ __all__ = [
 # AQL-style percentages, common practice, no source).
 OC_READING_FRACTIONS = (0.005, 0.01, 0.025, 0.04, 0.065, 0.10, 0.15, 0.25)
 
-_RC = {
+_RC: Any = {  # matplotlib rc settings
     "font.family": "DejaVu Sans",
     "font.size": 7.5,
     "axes.linewidth": 0.6,
@@ -83,8 +84,8 @@ def oc_svg(plan: SamplingPlan, *, width_cm: float = 16.0, height_cm: float = 6.5
     with matplotlib.rc_context(_RC):
         fig = Figure(figsize=(width_cm * _CM, height_cm * _CM))
         ax = fig.subplots()
-        style = {"drawstyle": "steps-post"} if plan.model == "hypergeometric" else {}
-        ax.plot(p * 100.0, pa, color="black", linewidth=1.0, **style)
+        drawstyle = "steps-post" if plan.model == "hypergeometric" else "default"
+        ax.plot(p * 100.0, pa, color="black", linewidth=1.0, drawstyle=drawstyle)
         for prob, ls in ((0.95, "--"), (0.10, ":")):
             q = fraction_at_probability(plan, prob)
             if q is not None:
@@ -111,7 +112,7 @@ def oc_svg(plan: SamplingPlan, *, width_cm: float = 16.0, height_cm: float = 6.5
 def values_svg(
     serials: list[str],
     values: list[list[float | None]],
-    verdicts: list[str],
+    verdicts: Sequence[str],
     *,
     upper: float | None,
     lower: float | None,
@@ -246,8 +247,8 @@ def lot_view(
                     )
     return {
         "title": f"Lot inspection record — {result.lot.get('part')} lot {result.lot.get('id')}",
-        "lot": result.lot,
-        "plan": result.plan,
+        "lot": {"part_name": None, "order": None, **result.lot},
+        "plan": {"notes": None, "pattern": "", **result.plan},
         "surfaces": [
             {
                 "name": k,

@@ -117,6 +117,7 @@ def inspect_lot(
         from concurrent.futures import ProcessPoolExecutor, as_completed
 
         start = 0
+        ctx: Any
         methods = multiprocessing.get_all_start_methods()
         if "fork" in methods and threading.active_count() == 1:
             ctx = multiprocessing.get_context("fork")

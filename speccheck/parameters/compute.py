@@ -337,15 +337,14 @@ def compute_parameters(
         for k in range(n_sec):
             per_section[k][name] = ParameterValue(float(per[k]), PARAMETERS[base].unit)
         values[name] = ParameterValue(_mean_over_sections(name, per, notes), PARAMETERS[base].unit)
-        if base == "v":
-            put("t", amplitude.total_height(le))
-    if m + 2 * spacing.SLOPE_MARGIN_POINTS >= 7:
-        wide = _section_rows(prof, start, n_sec, m, spacing.SLOPE_MARGIN_POINTS)
-        dq = np.asarray(spacing.rms_slope(wide, dx_um=dx)).reshape(n_sec)
-        name = parse_name("dq")
-        for k in range(n_sec):
-            per_section[k][name] = ParameterValue(float(dq[k]), PARAMETERS["dq"].unit)
-        values[name] = ParameterValue(_mean_over_sections(name, dq, notes), PARAMETERS["dq"].unit)
+    # RΔq: each section with 3 trace points either side, the neighbours of the 7-point stencil
+    wide = _section_rows(prof, start, n_sec, m, spacing.SLOPE_MARGIN_POINTS)
+    dq = np.asarray(spacing.rms_slope(wide, dx_um=dx)).reshape(n_sec)
+    name = parse_name("dq")
+    for k in range(n_sec):
+        per_section[k][name] = ParameterValue(float(dq[k]), PARAMETERS["dq"].unit)
+    values[name] = ParameterValue(_mean_over_sections(name, dq, notes), PARAMETERS["dq"].unit)
+    put("t", amplitude.total_height(le))
     put("z1max", amplitude.largest_section_max_height(sec))
     put("pm", asme.mean_peak_height(sec))
     put("vm", asme.mean_valley_depth(sec))
@@ -409,7 +408,8 @@ def _stratified(
             "Rk family on the ISO 13565-1 roughness profile (valley-suppressed reference line)"
         )
     r = (primary - line)[ev]
-    res = rk.rk_parameters(r)
+    curve = material.material_ratio_curve(r)
+    res = rk.rk_parameters(r, curve=curve)
     if isinstance(res, rk.NoCore):
         notes.append(res.reason)
     else:
@@ -423,7 +423,7 @@ def _stratified(
             ("A2", "A2"),
         ):
             values[key] = ParameterValue(float(getattr(res, key)), PARAMETERS[base].unit)
-    q = rk.probability_parameters(r)
+    q = rk.probability_parameters(r, curve=curve)
     if isinstance(q, rk.NoCore):
         notes.append(q.reason)
     else:

@@ -77,7 +77,7 @@ def material_ratio_curve(z_um) -> tuple[np.ndarray, np.ndarray]:
         Heights in µm, decreasing (highest first).
     """
     z = _flat(z_um)
-    h = np.sort(z)[::-1]
+    h = np.ascontiguousarray(np.sort(z)[::-1])
     mr = (np.arange(h.size) + 0.5) * (100.0 / h.size)
     return mr, h
 

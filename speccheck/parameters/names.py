@@ -45,7 +45,9 @@ PARAMETERS: dict[str, ParameterInfo] = {
     "dq": ParameterInfo("", "section", "ISO 4287:1997 4.4.1 (RΔq)", "RWP"),
     "mr": ParameterInfo("%", "evaluation", "ISO 4287:1997 4.5.1 (Rmr(c))", "RWP", False, True),
     "dc": ParameterInfo("µm", "evaluation", "ISO 4287:1997 4.5.3 (Rδc)", "RWP", False, True),
-    "z1max": ParameterInfo("µm", "evaluation", "ISO 4288:1996 / ISO 21920-2 (largest section Rz)", "RWP", True),
+    "z1max": ParameterInfo(
+        "µm", "evaluation", "ISO 4288:1996 / ISO 21920-2 (largest section Rz)", "RWP", True
+    ),
     # ISO 13565-2:1996 (R profile after the ISO 13565-1 reference line)
     "k": ParameterInfo("µm", "evaluation", "ISO 13565-2:1996 4.1 (core roughness depth)", "R"),
     "pk": ParameterInfo("µm", "evaluation", "ISO 13565-2:1996 4.2 (reduced peak height)", "R"),
@@ -57,11 +59,15 @@ PARAMETERS: dict[str, ParameterInfo] = {
     # ISO 13565-3:1998 (normal probability material ratio curve)
     "pq": ParameterInfo("µm", "evaluation", "ISO 13565-3:1998 (plateau Rq)", "R"),
     "vq": ParameterInfo("µm", "evaluation", "ISO 13565-3:1998 (valley Rq)", "R"),
-    "mq": ParameterInfo("%", "evaluation", "ISO 13565-3:1998 (material ratio at the transition)", "R"),
+    "mq": ParameterInfo(
+        "%", "evaluation", "ISO 13565-3:1998 (material ratio at the transition)", "R"
+    ),
     # ASME B46.1-2019 section 1
     "pm": ParameterInfo("µm", "section", "ASME B46.1 1-4.1 (mean of section Rp)", "RWP"),
     "vm": ParameterInfo("µm", "section", "ASME B46.1 1-4.1 (mean of section Rv)", "RWP"),
-    "max": ParameterInfo("µm", "evaluation", "ASME B46.1 1-4.1 (largest section peak-to-valley)", "R", True),
+    "max": ParameterInfo(
+        "µm", "evaluation", "ASME B46.1 1-4.1 (largest section peak-to-valley)", "R", True
+    ),
     "pc": ParameterInfo("1/cm", "evaluation", "ASME B46.1 1-5 (peak count per unit length)", "R"),
 }
 

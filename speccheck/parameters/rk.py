@@ -94,13 +94,18 @@ class NoCore:
         return False
 
 
-def rk_parameters(z_um) -> RkParameters | NoCore:
+def rk_parameters(
+    z_um, *, curve: tuple[np.ndarray, np.ndarray] | None = None
+) -> RkParameters | NoCore:
     """Core roughness depth Rk and its family (ISO 13565-2:1996 4; Rmrk1/Rmrk2 in ISO 21920-2).
 
     Parameters
     ----------
     z_um : array_like
         Heights in µm over the evaluation length (roughness profile per ISO 13565-1).
+    curve : (mr_pct, height_um), optional
+        The material ratio curve of ``z_um`` if already computed
+        (:func:`speccheck.parameters.material.material_ratio_curve`), to save sorting again.
 
     Returns
     -------
@@ -119,7 +124,7 @@ def rk_parameters(z_um) -> RkParameters | NoCore:
     n = z.size
     if n < _MIN_POINTS:
         return NoCore(f"no core found for Rk: {n} points, at least {_MIN_POINTS} needed")
-    mr, h = material_ratio_curve(z)
+    mr, h = material_ratio_curve(z) if curve is None else curve
     if not h[0] > h[-1]:
         return NoCore("no core found for Rk: the profile is flat")
     w = int(round(SECANT_SPAN_PCT / 100.0 * n))
@@ -134,14 +139,14 @@ def rk_parameters(z_um) -> RkParameters | NoCore:
     rk = top - bottom
     if not (np.isfinite(rk) and rk > 0.0):
         return NoCore("no core found for Rk: the material ratio curve has no sloping core")
-    # material ratio at a level: interpolate on the curve extended to 0 % and 100 %
-    mr_ext = np.concatenate(([0.0], mr, [100.0]))
-    h_ext = np.concatenate(([h[0]], h, [h[-1]]))
-    mr1 = float(np.interp(top, h_ext[::-1], mr_ext[::-1], left=100.0, right=0.0))
-    mr2 = float(np.interp(bottom, h_ext[::-1], mr_ext[::-1], left=100.0, right=0.0))
-    step = 100.0 / n
-    a1 = float(np.sum(np.clip(h - top, 0.0, None)) * step)
-    a2 = float(np.sum(np.clip(bottom - h, 0.0, None)) * step)
+    rising = np.ascontiguousarray(h[::-1])
+    k1 = n - int(np.searchsorted(rising, top, side="left"))  # samples at or above the top
+    k2 = n - int(np.searchsorted(rising, bottom, side="left"))  # ... at or above the bottom
+    mr1 = _ratio_at_level(mr, h, k1, top)
+    mr2 = _ratio_at_level(mr, h, k2, bottom)
+    step = 100.0 / n  # material ratio per sample: midpoint rule for the areas
+    a1 = float(np.sum(h[:k1]) - k1 * top) * step
+    a2 = float((n - k2) * bottom - np.sum(h[k2:])) * step
     rpk = 2.0 * a1 / mr1 if mr1 > 0.0 else 0.0
     rvk = 2.0 * a2 / (100.0 - mr2) if mr2 < 100.0 else 0.0
     return RkParameters(
@@ -158,6 +163,18 @@ def rk_parameters(z_um) -> RkParameters | NoCore:
     )
 
 
+def _ratio_at_level(mr: np.ndarray, h: np.ndarray, k: int, level: float) -> float:
+    """Material ratio in % where the curve (mr, h decreasing) crosses ``level``; ``k`` = number
+    of samples at or above it. Linear between the samples either side; 0 % above the highest
+    sample, 100 % at or below the lowest."""
+    if k == 0:
+        return 0.0
+    if k == h.size:
+        return 100.0
+    t = (h[k - 1] - level) / (h[k - 1] - h[k])
+    return float(mr[k - 1] + t * (mr[k] - mr[k - 1]))
+
+
 def _line_sse(x: np.ndarray, y: np.ndarray) -> np.ndarray:
     """Residual sum of squares of the least-squares line through x[:k], y[:k] for every k."""
     k = np.arange(1, x.size + 1, dtype=np.float64)
@@ -170,13 +187,17 @@ def _line_sse(x: np.ndarray, y: np.ndarray) -> np.ndarray:
         return np.where(vxx > 0, vyy - vxy * vxy / np.where(vxx > 0, vxx, 1.0), 0.0)
 
 
-def probability_parameters(z_um) -> ProbabilityParameters | NoCore:
+def probability_parameters(
+    z_um, *, curve: tuple[np.ndarray, np.ndarray] | None = None
+) -> ProbabilityParameters | NoCore:
     """Rpq, Rvq, Rmq on the normal-probability material ratio curve (ISO 13565-3:1998).
 
     Parameters
     ----------
     z_um : array_like
         Heights in µm over the evaluation length.
+    curve : (mr_pct, height_um), optional
+        The material ratio curve of ``z_um`` if already computed.
 
     Returns
     -------
@@ -196,7 +217,7 @@ def probability_parameters(z_um) -> ProbabilityParameters | NoCore:
     z = as_heights(z_um).reshape(-1)
     if z.size < _MIN_POINTS:
         return NoCore(f"no fit for Rpq/Rvq: {z.size} points, at least {_MIN_POINTS} needed")
-    mr, h = material_ratio_curve(z)
+    mr, h = material_ratio_curve(z) if curve is None else curve
     if h[0] <= h[-1]:
         return NoCore("no fit for Rpq/Rvq: the profile is flat")
     x = np.linspace(ndtri(0.005), ndtri(0.995), PROBABILITY_GRID_POINTS)

@@ -193,7 +193,17 @@ class AuditResult:
     reevaluated: int = 0
 
     @property
+    def chain_intact(self) -> bool:
+        """No record edited, deleted or out of chain."""
+        return not any(f.kind in ("edited", "deleted", "chain") for f in self.findings)
+
+    @property
+    def verdicts_differ(self) -> int:
+        return sum(f.kind == "verdict" for f in self.findings)
+
+    @property
     def intact(self) -> bool:
+        """Chain intact and every re-evaluated verdict reproduced."""
         return not any(f.tampering for f in self.findings)
 
     def to_dict(self) -> dict[str, Any]:
@@ -202,6 +212,7 @@ class AuditResult:
             "records": self.records,
             "head_hash": self.head_hash,
             "intact": self.intact,
+            "chain_intact": self.chain_intact,
             "reevaluated": self.reevaluated,
             "findings": [
                 {"record": f.record_id, "kind": f.kind, "message": f.message} for f in self.findings
@@ -470,7 +481,8 @@ class RecordsStore:
         limit: int | None = None,
     ) -> list[Record]:
         """Records in id order, optionally only those of one kind, part or verdict."""
-        where, params = [], []
+        where: list[str] = []
+        params: list[Any] = []
         for col, val in (("kind", kind), ("part", part), ("verdict", verdict)):
             if val is not None:
                 where.append(f"{col} = ?")
@@ -669,7 +681,7 @@ def _reevaluate_one(
     try:
         from speccheck.evaluation.evaluator import evaluate_files
 
-        again = evaluate_files(index[spec_sha], [index[m["sha256"]] for m in meas], fmt=fmt)
+        again = evaluate_files(index[str(spec_sha)], [index[m["sha256"]] for m in meas], fmt=fmt)
     except SpeccheckError as exc:
         out.findings.append(AuditFinding(record_id, "not-reevaluated", f"{what}: {exc.one_line()}"))
         return

@@ -222,7 +222,7 @@ def trend_svg(trend: Trend, *, width_cm: float = 17.0, height_cm: float = 8.0) -
     import matplotlib
     from matplotlib.figure import Figure
 
-    rc = {
+    rc: Any = {  # matplotlib rc settings
         "font.family": "DejaVu Sans",
         "font.size": 7.5,
         "svg.fonttype": "path",
@@ -263,8 +263,8 @@ def trend_svg(trend: Trend, *, width_cm: float = 17.0, height_cm: float = 8.0) -
         flag = (
             "" if cap.meaningful else f" — fewer than {MIN_VALUES_FOR_INDEX} values, not meaningful"
         )
-        ax.set_title(f"{trend.part} {trend.parameter}: {len(trend.points)} values; {', '.join(idx) or 'no index'}{flag}",
-                     loc="left", fontsize=8)  # fmt: skip
+        head = f"{trend.part} {trend.parameter}: {len(trend.points)} values"
+        ax.set_title(f"{head}; {', '.join(idx) or 'no index'}{flag}", loc="left", fontsize=8)
         fig.tight_layout(pad=0.4)
         buf = io.BytesIO()
         fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None})

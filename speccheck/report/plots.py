@@ -17,7 +17,7 @@ from typing import Any
 __all__ = ["RkConstruction", "profile_svg", "material_ratio_svg", "histogram_svg", "svg_data_uri"]
 
 _CM = 1 / 2.54
-_COLUMNS = 700  # min/max pairs kept per trace: 0.25 mm per column on a 17 cm wide plot
+_COLUMNS = 500  # min/max pairs kept per trace: 0.34 mm per column on a 17 cm wide plot
 
 _RC = {
     "font.family": "DejaVu Sans",

@@ -18,6 +18,7 @@ __all__ = [
     "SignatureView",
     "ReportView",
     "format_number",
+    "plain_number",
     "build_view",
 ]
 
@@ -108,6 +109,7 @@ class RequirementView:
     decision_rule: str
     uncertainty: str
     conditions: str
+    sources: str
     verdict_word: str
     verdict_class: str
     explanation: str
@@ -139,6 +141,7 @@ class MeasurementView:
     key_values: str
     plots: list[PlotView] = field(default_factory=list)
     plot_note: str = ""
+    css_class: str = ""  # "page-start": begins a new page
 
 
 @dataclass(frozen=True)
@@ -150,6 +153,7 @@ class SignatureView:
     date: str
     fingerprint: str
     note: str  # demo-key warning or how to verify
+    summary: str = ""  # one line for page 1: "name (org), role, date"
 
 
 @dataclass(frozen=True)
@@ -172,39 +176,61 @@ class ReportView:
     software: str
 
 
+def plain_number(value: float | None, unit: str = "") -> str:
+    """A stated number (limit, cut-off) as written: shortest form, no trailing zeros."""
+    if value is None:
+        return "—"
+    return f"{float(value):.10g} {unit}".strip()
+
+
 def _limits_text(upper: float | None, lower: float | None, unit: str) -> str:
     if upper is not None and lower is not None:
-        return f"{format_number(lower)} to {format_number(upper, unit)}"
+        return f"{plain_number(lower)} to {plain_number(upper, unit)}"
     if upper is not None:
-        return f"upper {format_number(upper, unit)}"
+        return f"upper {plain_number(upper, unit)}"
     if lower is not None:
-        return f"lower {format_number(lower, unit)}"
+        return f"lower {plain_number(lower, unit)}"
     return "none stated"
 
 
 def _conditions_text(c: Mapping[str, Any]) -> str:
     parts = []
     if c.get("lambda_c_mm") is not None:
-        parts.append(f"λc {format_number(c['lambda_c_mm'], 'mm')}")
+        parts.append(f"λc {plain_number(c['lambda_c_mm'], 'mm')}")
     if "lambda_s_um" in c:
         ls = c.get("lambda_s_um")
-        parts.append(f"λs {format_number(ls, 'µm')}" if ls is not None else "no λs filter")
+        parts.append(f"λs {plain_number(ls, 'µm')}" if ls is not None else "no λs filter")
     if c.get("lambda_f_mm") is not None:
-        parts.append(f"λf {format_number(c['lambda_f_mm'], 'mm')}")
+        parts.append(f"λf {plain_number(c['lambda_f_mm'], 'mm')}")
     if c.get("sections") is not None:
         parts.append(f"{c['sections']} sections")
     if c.get("evaluation_length_mm") is not None:
-        parts.append(f"evaluation length {format_number(c['evaluation_length_mm'], 'mm')}")
+        parts.append(f"evaluation length {plain_number(c['evaluation_length_mm'], 'mm')}")
     if c.get("filter"):
         parts.append(f"{c['filter']} filter")
     if c.get("form"):
         parts.append(f"form removed: {c['form']}")
-    known = {"lambda_c_mm", "lambda_s_um", "lambda_f_mm", "sections", "evaluation_length_mm",
-             "filter", "form"}
-    for k in sorted(set(c) - known):
-        if c[k] is not None and not isinstance(c[k], (dict, list)):
-            parts.append(f"{k.replace('_', ' ')}: {c[k]}")
+    if c.get("max_spacing_um") is not None:
+        parts.append(f"sampling spacing at most {plain_number(c['max_spacing_um'], 'µm')}")
+    if c.get("required_trace_mm") is not None:
+        parts.append(f"trace of at least {plain_number(c['required_trace_mm'], 'mm')}")
+    if c.get("value_per") == "section":
+        parts.append("one value per section")
     return "; ".join(parts) if parts else "not recorded"
+
+
+_SOURCE_LABELS = (
+    ("lambda_c_source", "λc"),
+    ("lambda_s_source", "λs"),
+    ("rule_source", "rule"),
+    ("cutoff_table", "cut-off table"),
+    ("location", "specification"),
+)
+
+
+def _sources_text(c: Mapping[str, Any]) -> str:
+    parts = [f"{label}: {c[key]}" for key, label in _SOURCE_LABELS if c.get(key)]
+    return "; ".join(parts)
 
 
 def _file_name(path: str | None) -> str:
@@ -318,7 +344,7 @@ def build_view(
         counted = sum(1 for v in req.values if v.value is not None)
         tally = f"{counted} value{'s' if counted != 1 else ''}, {exceeding} exceeding"
         unc = (
-            f"U = {format_number(req.uncertainty, req.unit)} (k = 2)"
+            f"U = {plain_number(req.uncertainty, req.unit)} (k = 2)"
             if req.uncertainty is not None
             else "not stated (taken as 0)"
         )
@@ -332,6 +358,7 @@ def build_view(
                 decision_rule=_DECISION_WORDS.get(req.decision_rule, req.decision_rule),
                 uncertainty=unc,
                 conditions=_conditions_text(req.conditions or {}),
+                sources=_sources_text(req.conditions or {}),
                 verdict_word=VERDICT_WORDS.get(req.verdict, req.verdict.upper()),
                 verdict_class=f"v-{req.verdict}",
                 explanation=req.explanation,
@@ -341,7 +368,6 @@ def build_view(
             )
         )
 
-    rsk_names = ("Rsk",)
     measurements = []
     for m in result.measurements:
         kv = []
@@ -359,15 +385,15 @@ def build_view(
                 sha256=m.sha256 or "—",
                 format=m.format or "—",
                 points=str(m.points),
-                spacing=format_number(m.spacing_um, "µm"),
-                length=format_number(m.length_mm, "mm"),
+                spacing=plain_number(m.spacing_um, "µm"),
+                length=plain_number(m.length_mm, "mm"),
                 status=status,
                 key_values=", ".join(kv) if kv else "",
                 plots=list(plots.get(m.index, [])),
                 plot_note=plot_notes.get(m.index, ""),
+                css_class="page-start" if measurements else "",
             )
         )
-    del rsk_names
 
     features = []
     for i, req in enumerate(result.requirements, start=1):
@@ -389,9 +415,12 @@ def build_view(
                     requirement=f"{i} ({req.parameter})",
                     measurement=str(m + 1) if isinstance(m, int) else "—",
                     position=format_number(f.get("x_mm"), "mm"),
-                    depth=format_number(f.get("depth_um"), "µm"),
+                    depth=(format_number(f.get("depth_um"), "µm") + " deep"
+                           if f.get("depth_um") is not None
+                           else format_number(f.get("height_um"), "µm") + " high"
+                           if f.get("height_um") is not None else "—"),
                     width=format_number(f.get("width_um"), "µm"),
-                    note=str(f.get("message") or f.get("kind") or ""),
+                    note=" ".join(str(t) for t in (f.get("kind"), f.get("message")) if t),
                 ))
 
     verdict = result.verdict

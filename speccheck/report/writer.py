@@ -95,21 +95,27 @@ def _read_profiles(result: Any, profile_paths: Sequence[Path]) -> list[bytes]:
 
 
 def _plot_conditions(spec: Any) -> tuple[Any | None, Any | None]:
-    """Conditions for the profile plots and, when the Rk family is required, for its curve."""
+    """Conditions for the profile plots and, when the Rk family is required, for its curve.
+
+    The profile plot uses the first roughness (R) requirement's conditions; the material ratio
+    curve uses the ISO 13565-1 reference line the Rk family is computed on (or the robust filter
+    when the requirement asks for it).
+    """
+    from dataclasses import replace
+
     from speccheck.parameters.conditions import Conditions
 
-    reqs = [r for r in getattr(spec, "requirements", ()) if str(r.parameter).startswith("R")]
-    main = None
-    if reqs:
-        r = reqs[0]
-        main = Conditions(r.lambda_c_mm, r.lambda_s_um, sections=r.sections, filter=r.filter,
+    def conditions(r: Any) -> Any:
+        return Conditions(r.lambda_c_mm, r.lambda_s_um, sections=r.sections, filter=r.filter,
                           form=r.form)
+
+    reqs = [r for r in getattr(spec, "requirements", ()) if str(r.parameter).startswith("R")]
+    main = conditions(reqs[0]) if reqs else None
     rk = None
     for r in getattr(spec, "requirements", ()):
         if r.parameter in RK_FAMILY:
-            flt = "iso13565-1" if r.filter == "gaussian" else r.filter
-            rk = Conditions(r.lambda_c_mm, r.lambda_s_um, sections=r.sections, filter=flt,
-                            form=r.form)
+            c = conditions(r)
+            rk = replace(c, filter="iso13565-1") if c.filter == "gaussian" else c
             break
     return main, rk
 
@@ -130,6 +136,7 @@ class PlotProfiles:
     mean_line_um: Any
     roughness_um: Any
     section_bounds_mm: tuple[float, ...]
+    rsk: float | None = None  # mean of the section values (ISO 4287:1997 4.2.3)
 
 
 def profiles_for_plot(z_um: Any, *, dx_um: float, conditions: Any) -> PlotProfiles | None:
@@ -151,7 +158,12 @@ def profiles_for_plot(z_um: Any, *, dx_um: float, conditions: Any) -> PlotProfil
     step = conditions.section_points(dx_um)
     bounds = tuple(float(x_mm[sl.start] + k * step * dx_um / 1000.0)
                    for k in range(conditions.sections + 1))
-    return PlotProfiles(x_mm[sl], primary[sl], line[sl], rough[sl], bounds)
+    from speccheck.parameters.amplitude import skewness
+
+    rows = rough[sl].reshape(conditions.sections, step)
+    rsk = float(np.mean(skewness(rows)))
+    return PlotProfiles(x_mm[sl], primary[sl], line[sl], rough[sl], bounds,
+                        rsk if np.isfinite(rsk) else None)
 
 
 def _plots(
@@ -223,6 +235,8 @@ def _plots(
                 )
             )
         rsk = _number(params, "Rsk")
+        if rsk is None:
+            rsk = ev.rsk
         items.append(
             PlotView(
                 "Height distribution",
@@ -292,7 +306,11 @@ def write_report(
     from speccheck.report.signing import sign_pdf, signer_identity
 
     out_path = Path(out_path)
-    read_options = {k: v for k, v in dict(read_options or {}).items() if v is not None}
+    read_options = {
+        k: (v if isinstance(v, (str, int, float, bool)) else str(v))
+        for k, v in dict(read_options or {}).items()
+        if v is not None
+    }
     profile_paths = [Path(p) for p in profile_paths]
     raw_spec = bytes(spec.raw)
     profile_bytes = _read_profiles(result, profile_paths)
@@ -315,13 +333,16 @@ def write_report(
             date=now.strftime("%Y-%m-%d %H:%M UTC"),
             fingerprint=signer.sha256_fingerprint,
             note=note,
+            summary=", ".join(
+                t for t in (who, signer_role, now.strftime("%Y-%m-%d %H:%M UTC")) if t
+            ),
         )
     else:
         sig_view = SignatureView(
             signed=False,
             status="NOT SIGNED",
             signer="—",
-            role=signer_role or "—",
+            role=signer_role or "not stated",
             date="—",
             fingerprint="—",
             note="This record carries no digital signature: nothing proves who made it or that "
@@ -384,8 +405,8 @@ def write_report(
     pdf = embed_files(pdf, files)
 
     if sign_p12 is not None:
-        part = result.spec.get("part") if isinstance(result.spec.get("part"), Mapping) else {}
-        reason = f"Surface finish conformance record, part {part.get('number', '?')}"
+        number = (getattr(spec, "part", None) or {}).get("number", "?")
+        reason = f"Surface finish conformance record, part {number}"
         if signer_role:
             reason += f"; signer role: {signer_role}"
         if demo_key:

@@ -1,0 +1,356 @@
+"""Verify a conformance record: its signature, and its result recomputed from its attachments.
+
+A record passes when
+
+1. it carries a PDF signature that is intact (the signed bytes hash to the signed digest) and
+   covers the whole file (no incremental update appended after signing);
+2. the signer is trusted when certificates are given with ``trust``; without them the signer's
+   identity is shown but not vouched for, and a warning line says so;
+3. the attached specification and profiles are the files the result names (SHA-256), and the
+   result recomputed from them equals the recorded one.
+
+Numbers are compared with a relative tolerance of 1e-9 (absolute 1e-12 near zero): the
+computation is deterministic, but FFT and BLAS builds on other machines may round differently in
+the last bits, and a verifier on another machine must still be able to confirm a genuine record.
+Any verdict, zone or count that differs is a difference, so no decision can change unnoticed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+import tempfile
+from collections.abc import Sequence
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+from typing import Any
+
+from speccheck._version import __version__
+from speccheck.errors import ReportError
+from speccheck.report.pdf import read_embedded_files
+from speccheck.report.writer import MANIFEST_KIND, MANIFEST_NAME, RESULT_NAME
+
+__all__ = ["RELATIVE_TOLERANCE", "SignatureCheck", "VerifyResult", "verify_report", "compare_results"]
+
+RELATIVE_TOLERANCE = 1e-9
+ABSOLUTE_TOLERANCE = 1e-12
+MAX_DIFFERENCES = 20
+
+
+@dataclass(frozen=True)
+class SignatureCheck:
+    """What the PDF signature says."""
+
+    present: bool
+    intact: bool = False  # signed bytes unchanged and the cryptographic signature valid
+    whole_file: bool = False  # no bytes after the signed range (no later incremental update)
+    trusted: bool | None = None  # None: no trust anchors given
+    signer: str | None = None
+    signing_time: str | None = None  # as claimed by the signer (no timestamp authority)
+    certificate_sha256: str | None = None
+    problem: str | None = None
+
+
+@dataclass
+class VerifyResult:
+    """The outcome of :func:`verify_report`; ``ok`` is True only when everything holds."""
+
+    path: str
+    signature: SignatureCheck
+    recorded_verdict: str | None
+    recomputed_verdict: str | None
+    equal: bool
+    differences: list[str] = field(default_factory=list)
+    problems: list[str] = field(default_factory=list)
+    warnings: list[str] = field(default_factory=list)
+    attachments: list[str] = field(default_factory=list)
+
+    @property
+    def ok(self) -> bool:
+        s = self.signature
+        return (
+            s.present and s.intact and s.whole_file and s.trusted is not False
+            and self.equal and not self.problems
+        )
+
+    def to_dict(self) -> dict[str, Any]:
+        d = asdict(self)
+        d["ok"] = self.ok
+        return d
+
+
+def _close(a: float, b: float) -> bool:
+    if a == b:
+        return True
+    if math.isnan(a) and math.isnan(b):
+        return True
+    return abs(a - b) <= max(RELATIVE_TOLERANCE * max(abs(a), abs(b)), ABSOLUTE_TOLERANCE)
+
+
+def compare_results(recorded: Any, recomputed: Any, where: str = "") -> list[str]:
+    """Differences between two JSON-like trees: ``"place: recorded X, recomputed Y"`` lines.
+
+    Numbers compare within :data:`RELATIVE_TOLERANCE`; everything else exactly.
+    """
+    out: list[str] = []
+
+    def walk(a: Any, b: Any, at: str) -> None:
+        if len(out) >= MAX_DIFFERENCES:
+            return
+        if isinstance(a, dict) and isinstance(b, dict):
+            for k in sorted(set(a) | set(b), key=str):
+                place = f"{at}.{k}" if at else str(k)
+                if k not in a:
+                    out.append(f"{place}: not recorded, recomputed {b[k]!r}")
+                elif k not in b:
+                    out.append(f"{place}: recorded {a[k]!r}, missing on recomputation")
+                else:
+                    walk(a[k], b[k], place)
+            return
+        if isinstance(a, list) and isinstance(b, list):
+            if len(a) != len(b):
+                out.append(f"{at}: recorded {len(a)} entries, recomputed {len(b)}")
+            for i, (x, y) in enumerate(zip(a, b, strict=False)):
+                walk(x, y, f"{at}[{i}]")
+            return
+        if isinstance(a, bool) or isinstance(b, bool):  # True == 1 in Python; not here
+            if type(a) is not type(b) or a != b:
+                out.append(f"{at}: recorded {a!r}, recomputed {b!r}")
+            return
+        if isinstance(a, (int, float)) and isinstance(b, (int, float)):
+            if not _close(float(a), float(b)):
+                out.append(f"{at}: recorded {a!r}, recomputed {b!r}")
+            return
+        if a != b:
+            out.append(f"{at}: recorded {a!r}, recomputed {b!r}")
+
+    walk(recorded, recomputed, where)
+    return out
+
+
+def _normalised(result: dict[str, Any]) -> dict[str, Any]:
+    """The result without what legitimately differs between runs: time, paths, software."""
+    d = json.loads(json.dumps(result))
+    d.pop("created", None)
+    d.pop("software", None)
+    if isinstance(d.get("spec"), dict):
+        d["spec"].pop("path", None)
+    for m in d.get("measurements") or []:
+        if isinstance(m, dict):
+            m.pop("path", None)
+    return d
+
+
+def _check_signature(data: bytes, trust: Sequence[Path]) -> SignatureCheck:
+    import logging
+    from io import BytesIO
+
+    from pyhanko.keys import load_cert_from_pemder
+    from pyhanko.pdf_utils.reader import PdfFileReader
+    from pyhanko.sign.validation.errors import SignatureValidationError
+    from pyhanko.sign.validation import validate_pdf_signature
+    from pyhanko.sign.validation.status import SignatureCoverageLevel
+    from pyhanko_certvalidator import ValidationContext
+
+    roots = []
+    for p in trust:
+        try:
+            roots.append(load_cert_from_pemder(str(p)))
+        except Exception as exc:  # OSError or a parse error from asn1crypto
+            raise ReportError(
+                f"cannot read the certificate: {' '.join(str(exc).split()) or type(exc).__name__}",
+                path=str(p),
+            ) from exc
+    try:
+        reader = PdfFileReader(BytesIO(data), strict=False)
+        sigs = list(reader.embedded_signatures)
+    except Exception as exc:  # damaged file: the signature cannot be checked
+        return SignatureCheck(present=False, problem=f"the PDF structure is damaged ({exc})")
+    if not sigs:
+        return SignatureCheck(present=False, problem="the record is not signed")
+    sig = sigs[-1]
+    vc = ValidationContext(trust_roots=roots, allow_fetching=False)
+    # pyHanko logs a full traceback for every untrusted certificate; the result says it in words
+    quiet = [logging.getLogger(n) for n in ("pyhanko", "pyhanko_certvalidator")]
+    levels = [q.level for q in quiet]
+    for q in quiet:
+        q.setLevel(logging.CRITICAL)
+    try:
+        status = validate_pdf_signature(sig, vc)
+    except (SignatureValidationError, ValueError, KeyError, TypeError) as exc:
+        return SignatureCheck(present=True, problem=f"the signature cannot be validated ({exc})")
+    except Exception as exc:  # zlib and parser errors from a damaged signed range
+        return SignatureCheck(
+            present=True, problem=f"the signed content is damaged ({type(exc).__name__}: {exc})"
+        )
+    finally:
+        for q, lv in zip(quiet, levels, strict=True):
+            q.setLevel(lv)
+    cert = status.signing_cert
+    signer = cert.subject.human_friendly if cert is not None else None
+    fp = cert.sha256.hex(":").upper() if cert is not None else None
+    when = status.signer_reported_dt
+    whole = status.coverage == SignatureCoverageLevel.ENTIRE_FILE
+    problem = None
+    if not (status.intact and status.valid):
+        problem = "the signed content was changed after signing (signature broken)"
+    elif not whole:
+        problem = "bytes were added after the signature (incremental update): they are not signed"
+    elif len(sigs) > 1 and not all(_intact(s, vc) for s in sigs[:-1]):
+        problem = "an earlier signature in the file is broken"
+    return SignatureCheck(
+        present=True,
+        intact=bool(status.intact and status.valid),
+        whole_file=whole,
+        trusted=bool(status.trusted) if roots else None,
+        signer=signer,
+        signing_time=when.strftime("%Y-%m-%d %H:%M:%S UTC") if when else None,
+        certificate_sha256=fp,
+        problem=problem,
+    )
+
+
+def _intact(sig: Any, vc: Any) -> bool:
+    from pyhanko.sign.validation import validate_pdf_signature
+
+    try:
+        st = validate_pdf_signature(sig, vc)
+    except Exception:
+        return False
+    return bool(st.intact and st.valid)
+
+
+def _sha256(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
+
+
+def _safe_name(name: str, fallback: str) -> str:
+    base = name.replace("\\", "/").rsplit("/", 1)[-1]
+    return base if base not in ("", ".", "..") else fallback
+
+
+def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
+    """Check a conformance record's signature and recompute its result from its attachments.
+
+    Parameters
+    ----------
+    path:
+        The PDF written by :func:`speccheck.report.write_report`.
+    trust:
+        PEM or DER certificates the signer must chain to; empty: the signer is shown, not
+        vouched for.
+
+    Returns
+    -------
+    VerifyResult
+        ``ok`` True only when the signature is present, intact, covers the whole file, is
+        trusted (when ``trust`` is given), and the recomputed result equals the recorded one.
+
+    Raises
+    ------
+    ReportError
+        The file is not a PDF, or not a speccheck record (no attached result).
+    """
+    path = Path(path)
+    try:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise ReportError(f"cannot read the file ({exc.strerror or exc})", path=str(path)) from exc
+    files = read_embedded_files(data, path=str(path))
+    if RESULT_NAME not in files or MANIFEST_NAME not in files:
+        raise ReportError(
+            "not a speccheck conformance record (no attached result and manifest)", path=str(path)
+        )
+    try:
+        manifest = json.loads(files[MANIFEST_NAME])
+        recorded = json.loads(files[RESULT_NAME])
+        if manifest.get("kind") != MANIFEST_KIND:
+            raise ValueError(f"unknown manifest kind {manifest.get('kind')!r}")
+        spec_entry = manifest["spec"]
+        profile_entries = list(manifest["profiles"])
+        read_options = dict(manifest.get("read_options") or {})
+    except (ValueError, KeyError, TypeError) as exc:
+        raise ReportError(
+            f"the attached manifest or result is not valid: {exc}",
+            path=str(path), where=f"attachment {MANIFEST_NAME}",
+        ) from exc
+
+    signature = _check_signature(data, trust)
+    problems: list[str] = []
+    warnings: list[str] = []
+    if signature.problem:
+        problems.append(signature.problem)
+    if signature.present and signature.trusted is False:
+        problems.append("signer not trusted: the certificate does not match any --trust certificate")
+    if signature.present and signature.trusted is None and not signature.problem:
+        warnings.append("signer not trusted: no --trust given (identity shown, not vouched for)")
+
+    # the attachments must be the files the result was computed from
+    names = [spec_entry["name"]] + [e["name"] for e in profile_entries]
+    missing = [n for n in names if n not in files]
+    if missing:
+        problems.append(f"attachments missing: {', '.join(missing)}")
+        return VerifyResult(str(path), signature, recorded.get("verdict"), None, False, [],
+                            problems, warnings, sorted(files))
+    spec_bytes = files[spec_entry["name"]]
+    if _sha256(spec_bytes) != (recorded.get("spec") or {}).get("sha256"):
+        problems.append(f"the attached specification {spec_entry['name']} is not the one evaluated "
+                        "(SHA-256 differs from the result)")
+    rec_meas = recorded.get("measurements") or []
+    for i, e in enumerate(profile_entries):
+        want = rec_meas[i].get("sha256") if i < len(rec_meas) else None
+        if want and _sha256(files[e["name"]]) != want:
+            problems.append(f"the attached profile {e['name']} (measurement {i + 1}) is not the one "
+                            "evaluated (SHA-256 differs from the result)")
+
+    recomputed_verdict = None
+    differences: list[str] = []
+    from speccheck.evaluation.evaluator import evaluate_files
+
+    with tempfile.TemporaryDirectory(prefix="speccheck-verify-") as tmp:
+        root = Path(tmp)
+        spec_dir = root / "spec"
+        spec_dir.mkdir()
+        spec_path = spec_dir / _safe_name(spec_entry.get("original_path") or spec_entry["name"],
+                                          "spec.yaml")
+        spec_path.write_bytes(spec_bytes)
+        profile_paths = []
+        for i, e in enumerate(profile_entries):
+            d = root / f"m{i + 1}"
+            d.mkdir()
+            p = d / _safe_name(e.get("original_path") or e["name"], f"profile{i + 1}")
+            p.write_bytes(files[e["name"]])
+            profile_paths.append(p)
+        try:
+            again = evaluate_files(
+                spec_path, profile_paths, created=recorded.get("created"),
+                **{k: read_options[k] for k in ("fmt", "dx", "decimal") if k in read_options},
+            )
+        except ReportError:
+            raise
+        except Exception as exc:  # SpeccheckError from the attachments: the record is broken
+            msg = getattr(exc, "message", None) or str(exc)
+            problems.append(f"the attachments cannot be evaluated again: {' '.join(msg.split())}")
+            again = None
+    if again is not None:
+        fresh = again.to_dict()
+        recomputed_verdict = fresh.get("verdict")
+        differences = compare_results(_normalised(recorded), _normalised(fresh))
+        recorded_version = (recorded.get("software") or {}).get("version")
+        if recorded_version and recorded_version != __version__:
+            warnings.append(
+                f"recorded with speccheck {recorded_version}, recomputed with {__version__}"
+            )
+    equal = again is not None and not differences
+    return VerifyResult(
+        path=str(path),
+        signature=signature,
+        recorded_verdict=recorded.get("verdict"),
+        recomputed_verdict=recomputed_verdict,
+        equal=equal,
+        differences=differences,
+        problems=problems,
+        warnings=warnings,
+        attachments=sorted(files),
+    )
