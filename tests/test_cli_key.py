@@ -16,9 +16,20 @@ def test_key_new_with_passphrase_file(tmp_path, run_cli):
     pw = tmp_path / "pw.txt"
     pw.write_text("ardent-grinding-key\n", encoding="utf-8")
     out = tmp_path / "ardent.p12"
-    status, stdout, stderr = run_cli("key", "new", "--name", "Quality Desk", "--org",
-                                     "Ardent Precision Grinding", "--out", out,
-                                     "--passphrase-file", pw, "--days", "365")
+    status, stdout, stderr = run_cli(
+        "key",
+        "new",
+        "--name",
+        "Quality Desk",
+        "--org",
+        "Ardent Precision Grinding",
+        "--out",
+        out,
+        "--passphrase-file",
+        pw,
+        "--days",
+        "365",
+    )
     assert (status, stderr) == (0, "")
     assert f"certificate: {tmp_path / 'ardent.pem'}" in stdout
     ident = signer_identity(out, b"ardent-grinding-key")
@@ -45,8 +56,9 @@ def test_key_new_without_passphrase_is_error(tmp_path, run_cli):
 
 
 def test_no_passphrase_option_on_the_command_line(tmp_path, run_cli):
-    status, _, stderr = run_cli("key", "new", "--name", "X", "--out", tmp_path / "x.p12",
-                                "--passphrase", "visible-in-ps")
+    status, _, stderr = run_cli(
+        "key", "new", "--name", "X", "--out", tmp_path / "x.p12", "--passphrase", "visible-in-ps"
+    )
     assert status == 2 and "No such option '--passphrase'" in stderr and stderr.count("\n") == 1
     assert list(tmp_path.iterdir()) == []
 
@@ -58,7 +70,9 @@ def test_key_new_refuses_to_overwrite(tmp_path, run_cli, monkeypatch):
     before = out.read_bytes()
     status, _, stderr = run_cli("key", "new", "--name", "B", "--out", out)
     assert status == 2
-    assert stderr == f"speccheck: error: {out}: already exists; a signing key is never overwritten\n"
+    assert (
+        stderr == f"speccheck: error: {out}: already exists; a signing key is never overwritten\n"
+    )
     assert out.read_bytes() == before
 
 

@@ -131,3 +131,17 @@ def test_signed_lot_report(run_cli, reject_lot: Path, tmp_path: Path):
         rec = store.get(1)
     assert rec.report_sha256 == hashlib.sha256(data).hexdigest()
     assert rec.signer == "Incoming Inspection"
+
+
+def test_unwritable_output_fails_before_anything_is_written(
+    run_cli, reject_lot: Path, tmp_path: Path
+):
+    db, out_json = tmp_path / "r.sqlite", tmp_path / "lot.json"
+    bad = tmp_path / "no-such-folder" / "lot.pdf"
+    status, out, err = run_cli(
+        "lot", reject_lot, "--data", reject_lot.parent / "data", "--report", bad,
+        "--json", out_json, "--record", "--db", db,
+    )  # fmt: skip
+    assert (status, out) == (2, "")
+    assert err == f"speccheck: error: {bad}: folder '{bad.parent}' does not exist\n"
+    assert not db.exists() and not out_json.exists()

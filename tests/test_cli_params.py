@@ -202,3 +202,17 @@ def test_parametrised_values_and_table(tmp_path, capsys):
     assert f"{ra:.4g}" in ra_line and "µm" in ra_line
     # the library reads the same file back: the command evaluated what is on disk
     assert read_profile(path).n_points == 12000
+
+
+def test_gap_too_long_to_bridge_is_refused(tmp_path, capsys):
+    """50 invalid points (25 µm) exceed the bridging limit of speccheck.profile (5 points,
+    10 µm): the profile must not be evaluated."""
+    z = np.array(sine_profile().z_um)
+    z[4000:4050] = np.nan
+    path = tmp_path / "gap.csv"
+    write_csv(path, Profile(z, DX_UM))
+    assert main(["params", str(path), "--cutoff", "0.8mm"]) == 2
+    assert capsys.readouterr().err == (
+        f"speccheck: error: {path}: gap of invalid points too long to bridge at x 2–2.0245 mm; "
+        "this profile cannot be evaluated\n"
+    )

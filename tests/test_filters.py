@@ -402,3 +402,17 @@ def test_regression_without_weight_under_the_kernel_is_nan(order):
     assert np.all(np.isfinite(line[:2000])) and np.all(np.isfinite(line[-2000:]))
     with pytest.raises(SpeccheckError, match="weights must be finite and ≥ 0"):
         regression_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM, weights=-w)
+
+
+@pytest.mark.parametrize("n", [11, 1601, 3000, 5000, 60000])
+def test_gaussian_equals_direct_weighted_mean_everywhere(n):
+    # reference: numpy.convolve (direct sum) of z and of ones with the same kernel; the ratio is
+    # the weighted mean of the heights under the kernel (gaussian.py docstring). Covers the
+    # single-FFT path (kernel long against the profile) and the block path (n = 60000).
+    rng = np.random.default_rng(n)
+    z = rng.normal(size=n) + 5.0
+    k = gaussian_kernel(dx_um=DX_UM, cutoff_um=LC_UM)
+    r = k.size // 2
+    ref = np.convolve(z, k)[r : r + n] / np.convolve(np.ones(n), k)[r : r + n]
+    got = gaussian_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM)
+    np.testing.assert_allclose(got, ref, rtol=0, atol=1e-11)

@@ -242,3 +242,31 @@ def test_lot_rejected_and_accepted(tmp_path: Path):
     assert plan.sampling.code_letter is None and plan.sampling.sample_size == 4
     res = inspect_lot(plan, accept_dir / "data", workers=1)
     assert (res.nonconforming, res.disposition, int(res.exit_status)) == (1, "accept", 0)
+
+
+def test_progress_reports_every_task(mixed_lot: Path):
+    seen: list[tuple[int, int]] = []
+    inspect_lot(
+        load_plan(mixed_lot),
+        mixed_lot.parent / "data",
+        workers=1,
+        progress=lambda d, t: seen.append((d, t)),
+    )
+    assert seen == [(i, 5) for i in range(1, 6)]  # 5 parts x 1 surface
+
+
+def test_lot_view_reads_the_oc_curve(mixed_lot: Path):
+    from test_sampling import hypergeometric_pa_by_hand
+
+    from speccheck.lot.report import OC_READING_FRACTIONS, lot_view
+
+    result = inspect_lot(load_plan(mixed_lot), mixed_lot.parent / "data", workers=1)
+    view = lot_view(result, plots=False)
+    # N = 20, n = 5, c = 1 (n/N = 0.25 > 0.1: hypergeometric with D = round(pN)), summed by hand
+    expected = [
+        f"{hypergeometric_pa_by_hand(round(p * 20), 20, 5, 1):.3f}" for p in OC_READING_FRACTIONS
+    ]
+    assert [r["pa"] for r in view["readings"]] == expected
+    assert view["disposition_text"] == "UNDECIDED — MEASURE AGAIN"
+    assert [r["serial"] for r in view["remeasure"]] == ["S-04"]
+    assert [d["title"] for d in view["distributions"]] == ["seal-seat — Ra 0.4"]

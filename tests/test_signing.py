@@ -23,8 +23,13 @@ PASS = b"holloway-bore-pass"
 @pytest.fixture(scope="module")
 def key(tmp_path_factory):
     d = tmp_path_factory.mktemp("keys")
-    return new_key(d / "qa.p12", name="Morgan Ashby", organisation="Kestrel Fluid Power",
-                   passphrase=PASS, days=30)
+    return new_key(
+        d / "qa.p12",
+        name="Morgan Ashby",
+        organisation="Kestrel Fluid Power",
+        passphrase=PASS,
+        days=30,
+    )
 
 
 def _validate(pdf: bytes, roots=()):
@@ -35,8 +40,9 @@ def _validate(pdf: bytes, roots=()):
     logging.getLogger("pyhanko").setLevel(logging.CRITICAL)
     logging.getLogger("pyhanko_certvalidator").setLevel(logging.CRITICAL)
     sig = PdfFileReader(BytesIO(pdf)).embedded_signatures[0]
-    return sig, validate_pdf_signature(sig, ValidationContext(trust_roots=list(roots),
-                                                              allow_fetching=False))
+    return sig, validate_pdf_signature(
+        sig, ValidationContext(trust_roots=list(roots), allow_fetching=False)
+    )
 
 
 def test_new_key_certificate(key):

@@ -45,26 +45,49 @@ def world(tmp_path_factory):
     """Spec, three profiles, two keys, a signed record and an unsigned one (made once)."""
     d = tmp_path_factory.mktemp("verify")
     spec = d / "kfp-2041.yaml"
-    spec.write_text(textwrap.dedent("""\
+    spec.write_text(
+        textwrap.dedent("""\
         spec_version: 1
         part: {number: KFP-2041, revision: C, surface: seal seat}
         requirements:
           - "Ra 0.8"
-        """), encoding="utf-8")
+        """),
+        encoding="utf-8",
+    )
     profiles = [sine_profile(d / f"m{i}.csv", ra) for i, ra in enumerate((0.40, 0.45, 0.50), 1)]
     other = sine_profile(d / "other.csv", 0.95)
-    key = new_key(d / "inspector.p12", name="Dana Whitfield", organisation="Kestrel Fluid Power",
-                  passphrase=PASS)
+    key = new_key(
+        d / "inspector.p12",
+        name="Dana Whitfield",
+        organisation="Kestrel Fluid Power",
+        passphrase=PASS,
+    )
     stranger = new_key(d / "stranger.p12", name="Someone Else", passphrase=PASS)
     result = evaluate_files(spec, profiles)
     loaded = load_spec(spec)
-    signed = write_report(result, out_path=d / "signed.pdf", spec=loaded,
-                          profile_paths=profiles, sign_p12=key.p12_path, passphrase=PASS,
-                          signer_role="Incoming inspection")
-    unsigned = write_report(result, out_path=d / "unsigned.pdf", spec=loaded,
-                            profile_paths=profiles)
-    return dict(d=d, spec=spec, profiles=profiles, other=other, key=key, stranger=stranger,
-                result=result, signed=signed.path, unsigned=unsigned.path)
+    signed = write_report(
+        result,
+        out_path=d / "signed.pdf",
+        spec=loaded,
+        profile_paths=profiles,
+        sign_p12=key.p12_path,
+        passphrase=PASS,
+        signer_role="Incoming inspection",
+    )
+    unsigned = write_report(
+        result, out_path=d / "unsigned.pdf", spec=loaded, profile_paths=profiles
+    )
+    return dict(
+        d=d,
+        spec=spec,
+        profiles=profiles,
+        other=other,
+        key=key,
+        stranger=stranger,
+        result=result,
+        signed=signed.path,
+        unsigned=unsigned.path,
+    )
 
 
 def test_genuine_record_verifies_with_and_without_trust(world):
@@ -126,8 +149,9 @@ def test_incremental_update_after_signing_fails(world, tmp_path):
     w = IncrementalPdfFileWriter(BytesIO(world["signed"].read_bytes()), strict=False)
     data = world["other"].read_bytes()
     ef = embed.EmbeddedFileObject.from_file_data(w, data)
-    embed.embed_file(w, embed.FileSpec(file_spec_string="m2.csv", file_name="m2.csv",
-                                       embedded_data=ef))
+    embed.embed_file(
+        w, embed.FileSpec(file_spec_string="m2.csv", file_name="m2.csv", embedded_data=ef)
+    )
     out = BytesIO()
     w.write(out)
     bad = tmp_path / "appended.pdf"
@@ -148,8 +172,9 @@ def _rebuilt_with(record: Path, replace: dict[str, bytes]) -> bytes:
         w.add_page(page)
     buf = BytesIO()
     w.write(buf)
-    return embed_files(buf.getvalue(), [EmbeddedFile(n, replace.get(n, b)) for n, b in
-                                        files.items()])
+    return embed_files(
+        buf.getvalue(), [EmbeddedFile(n, replace.get(n, b)) for n, b in files.items()]
+    )
 
 
 def test_replaced_profile_resigned_fails_recomputation(world, tmp_path, capsys):
@@ -233,8 +258,9 @@ def test_compare_tolerance(a, b, equal):
 
 
 def test_compare_reports_places():
-    diffs = compare_results({"r": [{"v": 1.0}, {"v": 2.0}], "x": 1},
-                            {"r": [{"v": 1.0}, {"v": 3.0}], "y": 1})
+    diffs = compare_results(
+        {"r": [{"v": 1.0}, {"v": 2.0}], "x": 1}, {"r": [{"v": 1.0}, {"v": 3.0}], "y": 1}
+    )
     assert diffs == [
         "r[1].v: recorded 2.0, recomputed 3.0",
         "x: recorded 1, missing on recomputation",

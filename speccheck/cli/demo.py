@@ -1,4 +1,4 @@
-"""``speccheck demo``: build the demo data set (calls demo.data.prepare_demo_folder)."""
+"""``speccheck demo``: the whole job on built-in demo data (calls demo.run.run_demo)."""
 
 from __future__ import annotations
 
@@ -16,16 +16,21 @@ __all__ = ["command"]
     help="Folder for the demo files (created if missing).",
 )
 def command(out: str) -> int:
-    """Write the invented Kestrel Fluid Power demo profiles (CSV and X3P) into a folder.
+    """Run the whole job on synthetic demo data in an invented scenario.
 
-    Calls speccheck.demo.data.prepare_demo_folder. The data is synthetic and fictional.
+    Writes demo profiles (CSV and X3P), copies the example specifications, checks each one,
+    writes signed conformance records (with a throwaway demo key), verifies one of them,
+    inspects a demo lot of 20 shafts and audits the records store. Calls
+    speccheck.demo.run.run_demo.
     """
-    from speccheck.demo.data import prepare_demo_folder
+    from speccheck.demo.run import run_demo
 
-    for row in prepare_demo_folder(out):
-        click.echo(
-            f"{row['name']:<30} {row['points']:>7} points  {row['length_mm']:6.3f} mm  "
-            f"dx {row['spacing_um']:g} µm  z range {row['z_range_um']:.3f} µm"
-        )
-    click.echo(f"demo data written to {out} (CSV and X3P; synthetic, invented scenario)")
-    return 0
+    run = run_demo(out, echo=click.echo)
+    ok = all(v == c.expected for c, v, _ in run.reports) and run.audit_ok
+    click.echo(
+        "demo finished: every verdict as documented in rules_examples/README.md"
+        if ok
+        else "demo finished with results that differ from the documented ones"
+    )
+    click.echo(f"open {run.reports[0][2]} to see a conformance record")
+    return 0 if ok else 1

@@ -22,9 +22,26 @@ def command() -> None:
 @command.command("new")
 @click.option("--name", required=True, help="Signer's name, as it will appear in signatures.")
 @click.option("--org", default=None, help="Organisation name.")
-@click.option("--out", "out", required=True, metavar="FILE.p12", help="Key file to write; the certificate goes to FILE.pem.")
-@click.option("--days", default=730, show_default=True, type=click.IntRange(min=1), help="Validity of the certificate.")
-@click.option("--passphrase-file", type=click.Path(dir_okay=False, path_type=Path), default=None, help=PASSPHRASE_HELP)
+@click.option(
+    "--out",
+    "out",
+    required=True,
+    metavar="FILE.p12",
+    help="Key file to write; the certificate goes to FILE.pem.",
+)
+@click.option(
+    "--days",
+    default=730,
+    show_default=True,
+    type=click.IntRange(min=1),
+    help="Validity of the certificate.",
+)
+@click.option(
+    "--passphrase-file",
+    type=click.Path(dir_okay=False, path_type=Path),
+    default=None,
+    help=PASSPHRASE_HELP,
+)
 def new(name: str, org: str | None, out: str, days: int, passphrase_file: Path | None) -> None:
     """Write a passphrase-protected key FILE.p12 and the certificate FILE.pem for verifiers."""
     from speccheck.report.signing import PASSPHRASE_ENV, new_key, read_passphrase
@@ -32,7 +49,8 @@ def new(name: str, org: str | None, out: str, days: int, passphrase_file: Path |
     passphrase = read_passphrase(passphrase_file)
     if passphrase is None:
         raise ReportError(
-            f"no passphrase: give --passphrase-file FILE or set {PASSPHRASE_ENV}", where="--passphrase-file"
+            f"no passphrase: give --passphrase-file FILE or set {PASSPHRASE_ENV}",
+            where="--passphrase-file",
         )
     info = new_key(Path(out), name=name, organisation=org, passphrase=passphrase, days=days)
     click.echo(f"key:         {info.p12_path} (keep it private; passphrase-protected)")

@@ -97,6 +97,9 @@ def command(
 
     if sign_p12 and not report_out:
         raise SpeccheckError("--sign needs --report OUT.pdf (the signature goes on the report)")
+    for out in (report_out, json_out):
+        if out and out != "-" and not Path(out).resolve().parent.is_dir():
+            raise SpeccheckError(f"folder {str(Path(out).parent)!r} does not exist", path=out)
     loaded = load_plan(plan)
     report, stop = _progress_callback()
     try:

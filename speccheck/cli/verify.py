@@ -26,12 +26,17 @@ def _lines(r) -> list[str]:  # r: VerifyResult
         out.append(f"signed at:     {s.signing_time or 'unknown'} (as stated by the signer)")
         if s.certificate_sha256:
             out.append(f"certificate:   SHA-256 {s.certificate_sha256}")
-        trust = {True: "trusted (chains to a --trust certificate)", False: "NOT trusted", None: "not checked"}
+        trust = {
+            True: "trusted (chains to a --trust certificate)",
+            False: "NOT trusted",
+            None: "not checked",
+        }
         out.append(f"trust:         {trust[s.trusted]}")
     out.append(f"attachments:   {', '.join(r.attachments)}")
     if r.recomputed_verdict is not None:
         same = "equal to the record" if r.equal else "DIFFERS from the record"
-        out.append(f"recomputed:    {same} (recorded verdict {r.recorded_verdict}, recomputed {r.recomputed_verdict})")
+        verdicts = f"recorded verdict {r.recorded_verdict}, recomputed {r.recomputed_verdict}"
+        out.append(f"recomputed:    {same} ({verdicts})")
     for d in r.differences:
         out.append(f"  differs: {d}")
     for p in r.problems:

@@ -49,13 +49,32 @@ def _poly_key(k: int) -> str:
 
 
 def _fit_poly(x_mm: np.ndarray, z: np.ndarray, degree: int) -> tuple[np.ndarray, dict[str, float]]:
-    from numpy.polynomial import Polynomial
+    """Least-squares polynomial in a Legendre basis on x scaled to [-1, 1].
 
-    # Polynomial.fit maps x to [-1, 1] before the least-squares solve: well conditioned.
-    p = Polynomial.fit(x_mm, z, degree)
-    coef = p.convert().coef  # in the unscaled variable x_mm, for the report
+    On a uniform grid the Legendre polynomials are nearly orthogonal, so the normal equations
+    (degree + 1 unknowns) are well conditioned (condition number < 20 up to degree 6) and cost
+    O(N·degree), much less than a QR of the Vandermonde matrix.
+    """
+    from numpy.polynomial import legendre as leg
+
+    x0, x1 = float(x_mm[0]), float(x_mm[-1])
+    t = (2.0 * x_mm - (x0 + x1)) / (x1 - x0)
+    if degree == 1:  # closed form, centred (t has mean 0 on a uniform grid)
+        # einsum, not np.dot: a multithreaded BLAS dot of one long vector is slower here
+        tc = t - t.mean()
+        slope_t = float(np.einsum("i,i->", tc, z) / np.einsum("i,i->", tc, tc))
+        form = z.mean() + slope_t * tc
+        coef_t = np.array([float(z.mean()) - slope_t * float(t.mean()), slope_t])
+    else:
+        v = leg.legvander(t, degree)
+        coef_l = np.linalg.solve(v.T @ v, v.T @ z)
+        form = v @ coef_l
+        coef_t = leg.leg2poly(coef_l)
+    # z = Σ c_k t^k with t = (2x − (x0 + x1)) / (x1 − x0): expand into powers of x (mm)
+    p = np.polynomial.Polynomial(coef_t, domain=[x0, x1], window=[-1.0, 1.0])
+    coef = p.convert().coef
     coef = np.pad(coef, (0, degree + 1 - coef.size))
-    return p(x_mm), {_poly_key(k): float(c) for k, c in enumerate(coef)}
+    return form, {_poly_key(k): float(c) for k, c in enumerate(coef)}
 
 
 def _fit_arc(x_um: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, dict[str, float]]:
@@ -117,7 +136,8 @@ def remove_form(z_um, *, dx_um: float, form: str = "line") -> FormFit:
 
     Notes
     -----
-    Line and polynomials: ordinary least squares in z (numpy.polynomial, x scaled to [-1, 1]).
+    Line: closed-form least squares. Polynomials: least squares in a Legendre basis with x
+    scaled to [-1, 1] (normal equations, well conditioned on a uniform grid).
     Arc: geometric (orthogonal-distance) least squares circle, started from the algebraic
     (Kåsa) circle and refined with ``scipy.optimize.least_squares``; x and z both in µm.
     """

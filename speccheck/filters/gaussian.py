@@ -7,7 +7,8 @@ Discrete kernel: s sampled at k·dx for |k·dx| ≤ λc and normalised to sum 1.
 beyond ±λc is erfc(√π / α) = 9.5e-8, so truncation changes the transmission by < 1e-7
 (at ±λc/2 it would be 0.76 % of the mass and 48.9 % instead of 50 % at λc).
 
-Convolution by FFT (``scipy.signal.oaconvolve``), O(N log K). Ends: the profile is not
+Convolution by FFT (overlap-save blocks, or one FFT of the whole profile for kernels long
+against it), O(N log N) at most. Ends: the profile is not
 extended; each output point is the weighted mean of the heights that exist under the kernel
 (the convolution with zero padding divided by the kernel mass inside the profile). That is the
 zeroth-order Gaussian regression at the ends (ISO 16610-28 discusses end effects); the first and
@@ -18,6 +19,7 @@ last λc are still biased on sloped or curved profiles, which is why
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
@@ -39,7 +41,7 @@ TRUNCATE_CUTOFFS = 1.0
 
 
 def mean_line_transmission(wavelength_um, *, cutoff_um: float) -> np.ndarray:
-    """Mean-line amplitude transmission exp(-π(αλc/λ)²) (ISO 16610-21 clause 4.2)."""
+    """Mean-line transmission exp(-π(αλc/λ)²) (ISO 16610-21:2011 4.2, clause from memory)."""
     lam = np.asarray(wavelength_um, dtype=np.float64)
     return np.exp(-math.pi * (ALPHA * float(cutoff_um) / lam) ** 2)
 
@@ -47,7 +49,7 @@ def mean_line_transmission(wavelength_um, *, cutoff_um: float) -> np.ndarray:
 def gaussian_kernel(
     *, dx_um: float, cutoff_um: float, alpha: float = ALPHA, truncate: float = TRUNCATE_CUTOFFS
 ) -> np.ndarray:
-    """Discrete ISO 16610-21 weighting function, normalised to sum 1 (ISO 16610-21 clause 4.2).
+    """Discrete ISO 16610-21 weighting function, normalised to sum 1 (ISO 16610-21:2011 4.2).
 
     Parameters
     ----------
@@ -75,26 +77,56 @@ def gaussian_kernel(
 
 
 def _edge_mass(kernel: np.ndarray, n: int) -> np.ndarray:
-    """Kernel mass that falls inside a profile of n points, for every output point."""
+    """Kernel mass that falls inside a profile of n points, for every output point.
+
+    1 (to rounding) except within r = len(kernel) // 2 points of either end, where it is a
+    difference of the kernel's cumulative sums; only those points are computed.
+    """
     r = (kernel.size - 1) // 2
     c = np.concatenate(([0.0], np.cumsum(kernel)))
-    i = np.arange(n)
-    lo = np.clip(r - i, 0, 2 * r + 1)
-    hi = np.clip(r + (n - 1) - i, -1, 2 * r)
-    return c[hi + 1] - c[lo]
+    mass = np.ones(n)
+    edge = np.arange(n) if n <= 2 * r else np.concatenate((np.arange(r), np.arange(n - r, n)))
+    lo = np.clip(r - edge, 0, 2 * r + 1)
+    hi = np.clip(r + (n - 1) - edge, -1, 2 * r)
+    mass[edge] = c[hi + 1] - c[lo]
+    return mass
 
 
-def _convolve_same(z: np.ndarray, kernel: np.ndarray) -> np.ndarray:
-    """Zero-padded linear convolution, centred output of len(z) (kernel odd and symmetric)."""
-    from scipy.signal import oaconvolve
+@lru_cache(maxsize=8)
+def _kernel_spectrum(dx_um: float, cutoff_um: float, nfft: int) -> np.ndarray:
+    import scipy.fft as sfft
 
-    if kernel.size == 1:
-        return z * kernel[0]
-    return oaconvolve(z, kernel, mode="same")
+    return sfft.rfft(gaussian_kernel(dx_um=dx_um, cutoff_um=cutoff_um), nfft)
+
+
+@lru_cache(maxsize=8)
+def _block_convolver(n: int, dx_um: float, cutoff_um: float):
+    from speccheck.filters._blockconv import BlockConvolver
+
+    return BlockConvolver(n, [gaussian_kernel(dx_um=dx_um, cutoff_um=cutoff_um)])
+
+
+def _convolve_same(z: np.ndarray, dx_um: float, cutoff_um: float, r: int) -> np.ndarray:
+    """Zero-padded convolution with the Gaussian kernel of half-width r, centred output.
+
+    Kernels short against the profile (16 K ≤ N): overlap-save in blocks of ≥ 4 K
+    (speccheck.filters._blockconv); otherwise one FFT of the whole zero-padded profile. Kernel
+    spectra are cached (the same λc is applied several times per evaluation). Both ways are
+    exact to rounding; the choice is by speed only (bench/run.py).
+    """
+    import scipy.fft as sfft
+
+    n, size = z.size, 2 * r + 1
+    if 16 * size <= n:
+        bc = _block_convolver(n, dx_um, cutoff_um)
+        return bc.convolve(bc.transform(z), 0)
+    nfft = sfft.next_fast_len(n + size - 1, real=True)
+    spec = _kernel_spectrum(dx_um, cutoff_um, nfft)
+    return sfft.irfft(sfft.rfft(z, nfft) * spec, nfft)[r : r + n]
 
 
 def gaussian_mean_line(z_um, *, dx_um: float, cutoff_um: float) -> np.ndarray:
-    """Gaussian mean line of a profile (ISO 16610-21:2011 clause 4.2).
+    """Gaussian mean line of a profile (ISO 16610-21:2011 4.2, clause from memory).
 
     Parameters
     ----------
@@ -121,8 +153,12 @@ def gaussian_mean_line(z_um, *, dx_um: float, cutoff_um: float) -> np.ndarray:
     Linear profile filters: Gaussian filters.
     """
     z = as_heights(z_um, min_points=1)
-    k = gaussian_kernel(dx_um=dx_um, cutoff_um=cutoff_um)
-    out = _convolve_same(z, k)
+    dx = positive_length(dx_um, "dx_um")
+    lc = positive_length(cutoff_um, "cutoff_um")
+    k = gaussian_kernel(dx_um=dx, cutoff_um=lc)
+    if k.size == 1:
+        return z.copy()
+    out = _convolve_same(z, dx, lc, (k.size - 1) // 2)
     out /= _edge_mass(k, z.size)
     return out
 

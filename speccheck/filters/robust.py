@@ -166,7 +166,7 @@ class _Regression:
 def regression_mean_line(
     z_um, *, dx_um: float, cutoff_um: float, order: int = 2, weights=None
 ) -> np.ndarray:
-    """Gaussian regression mean line of order 0 or 2 (ISO 16610-31:2016 clause 4; ISO 16610-21).
+    """Gaussian regression mean line of order 0 or 2 (ISO 16610-31:2016; ISO 16610-21:2011).
 
     Order 0 with all weights 1 is the ISO 16610-21 Gaussian with weighted-mean ends.
 
@@ -207,7 +207,7 @@ def robust_mean_line(
     max_iterations: int = 50,
     tol_um: float | None = None,
 ) -> RobustFit:
-    """Robust Gaussian regression mean line (ISO 16610-31:2016 clause 4, biweight).
+    """Robust Gaussian regression mean line (ISO 16610-31:2016, biweight; clause from memory: 4).
 
     Parameters
     ----------
@@ -242,15 +242,17 @@ def robust_mean_line(
     scale = float(np.max(np.abs(z)))
     change = math.inf
     for it in range(2, int(max_iterations) + 1):
-        r = z - w
-        med = float(np.median(np.abs(r)))
-        if (
-            med <= 1e-12 * scale
-        ):  # the profile is its own mean line (to rounding): nothing to weight
+        q = np.abs(z - w)  # |r|, turned into δ in place below
+        med = float(np.median(q))
+        if med <= 1e-12 * scale:
+            # the profile is its own mean line (to rounding): nothing to weight
             return RobustFit(w, delta, it - 1, True, order, 0.0)
-        c = BIWEIGHT_C * med
-        q = r / c
-        delta = np.where(np.abs(q) < 1.0, (1.0 - q * q) ** 2, 0.0)
+        # biweight: δ = (1 − (r/c)²)² for |r| < c, else 0; c = 4.4478 · median|r|
+        q *= 1.0 / (BIWEIGHT_C * med)
+        np.square(q, out=q)
+        np.subtract(1.0, q, out=q)
+        np.maximum(q, 0.0, out=q)
+        delta = np.square(q, out=q)
         w_new = reg.fit(z, delta, w)
         change = float(np.max(np.abs(w_new - w)))
         w = w_new

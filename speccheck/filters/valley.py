@@ -10,7 +10,7 @@ __all__ = ["valley_suppressed_mean_line"]
 
 
 def valley_suppressed_mean_line(z_um, *, dx_um: float, cutoff_um: float) -> np.ndarray:
-    """Valley-suppressed reference line (ISO 13565-1:1996 clause 5, steps 1-3).
+    """Valley-suppressed reference line (ISO 13565-1:1996, clause from memory: 5).
 
     1. Gaussian mean line of the primary profile (ISO 16610-21, λc).
     2. Every height below that line is replaced by the line (valleys cut off).

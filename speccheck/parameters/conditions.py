@@ -23,8 +23,9 @@ Default cut-offs
 ----------------
 :func:`default_lambda_c_mm` reads ISO 4288:1996 Tables 1-3 (default) or the ISO 21920-3:2021
 table; which parameter reads which column is in :data:`COLUMN_OF`. :func:`select_lambda_c`
-runs the ISO 4288:1996 procedure for a sampling length that is not specified (estimate, measure,
-move rows until the value measured lies in the row used; clause 7 from memory). :func:`instrument_settings` gives the ISO 3274:1996 Table 1 row for λc.
+runs the ISO 4288:1996 procedure for a sampling length that is not specified (estimate,
+measure, move rows until the value measured lies in the row used; clause 7, from memory).
+:func:`instrument_settings` gives the ISO 3274:1996 Table 1 row for λc.
 """
 
 from __future__ import annotations
@@ -361,8 +362,8 @@ class Conditions:
 
     @property
     def evaluation_length_mm(self) -> float:
-        """sections × section length (ISO 4288:1996 default: 5 sections)."""
-        return self.sections * self.section_length_mm
+        """sections × section length (ISO 4288:1996 default: 5 sections), rounded to 1e-9 mm."""
+        return round(self.sections * self.section_length_mm, 9)
 
     @property
     def run_in_mm(self) -> float:
@@ -371,8 +372,12 @@ class Conditions:
 
     @property
     def required_trace_mm(self) -> float:
-        """Shortest trace that can be evaluated: evaluation length + run-in + run-out."""
-        return self.evaluation_length_mm + 2.0 * self.run_in_mm
+        """Shortest trace that can be evaluated: evaluation length + run-in + run-out.
+
+        Rounded to 1e-9 mm so that decimal inputs compare as written (7 × 0.8 is 5.6, not
+        5.6000000000000005).
+        """
+        return round(self.evaluation_length_mm + 2.0 * self.run_in_mm, 9)
 
     def section_points(self, dx_um: float) -> int:
         """Points in one section at spacing ``dx_um`` (rounded)."""

@@ -37,7 +37,7 @@ def template_text(name: str) -> str:
 
 @lru_cache(maxsize=1)
 def template_environment():  # -> jinja2.Environment
-    """A jinja2 environment with autoescaping on, loading templates through :func:`template_text`."""
+    """A jinja2 environment, autoescaping on, loading templates through :func:`template_text`."""
     import jinja2
 
     return jinja2.Environment(

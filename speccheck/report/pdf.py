@@ -31,7 +31,9 @@ def render_pdf(html: str, *, base_url: str | None = None) -> bytes:
 
     with warnings.catch_warnings():
         # weasyprint warns at import when the optional HarfBuzz-Subset library is missing
-        warnings.filterwarnings("ignore", message=".*HarfBuzz-Subset.*", category=DeprecationWarning)
+        warnings.filterwarnings(
+            "ignore", message=".*HarfBuzz-Subset.*", category=DeprecationWarning
+        )
         import weasyprint
 
     # weasyprint reports unsupported CSS through logging; keep it off the user's terminal

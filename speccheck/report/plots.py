@@ -51,6 +51,7 @@ class RkConstruction:
     rvk_um: float
     mr1_pct: float
     mr2_pct: float
+    core_top_um: float | None = None  # equivalent line at Mr 0 %; None: the curve at Mr1
 
 
 def svg_data_uri(svg: bytes) -> str:
@@ -88,7 +89,7 @@ def _headroom(ax, y) -> None:
     if y.size:
         lo, hi = float(y.min()), float(y.max())
         span = (hi - lo) or 1.0
-        ax.set_ylim(lo - 0.08 * span, hi + 0.55 * span)
+        ax.set_ylim(lo - 0.12 * span, hi + 0.55 * span)
 
 
 def _figure(width_cm: float, height_cm: float):
@@ -126,7 +127,6 @@ def profile_svg(
         The SVG document.
     """
     import matplotlib
-
     import numpy as np
 
     x = np.asarray(profiles.x_mm, dtype=np.float64)
@@ -139,7 +139,7 @@ def profile_svg(
         ax1, ax2 = fig.subplots(2, 1, sharex=True)
         xs, ps = _decimate(x, p)
         ax1.plot(xs, ps, color="0.45", linestyle="-", label="primary profile")
-        xm, ms = _decimate(x, m)
+        xm, ms = _decimate(x, m, 100)  # the mean line is smooth: fewer points suffice
         ax1.plot(xm, ms, color="black", linestyle="--", linewidth=1.1, label="mean line")
         ax1.set_ylabel("height, µm")
         ax1.set_title("Primary profile and mean line")
@@ -155,20 +155,37 @@ def profile_svg(
             i_peak = int(np.nanargmax(r))
             i_valley = int(np.nanargmin(r))
             ax2.plot(
-                x[i_peak], r[i_peak], marker="^", markersize=5, color="black",
-                markerfacecolor="white", linestyle="none",
+                x[i_peak],
+                r[i_peak],
+                marker="^",
+                markersize=5,
+                color="black",
+                markerfacecolor="white",
+                linestyle="none",
                 label=f"highest peak {r[i_peak]:.3g} µm",
             )
             ax2.plot(
-                x[i_valley], r[i_valley], marker="v", markersize=5, color="black",
-                linestyle="none", label=f"deepest valley {r[i_valley]:.3g} µm",
+                x[i_valley],
+                r[i_valley],
+                marker="v",
+                markersize=5,
+                color="black",
+                linestyle="none",
+                label=f"deepest valley {r[i_valley]:.3g} µm",
             )
         fx = [float(f["x_mm"]) for f in features if f.get("x_mm") is not None]
         if fx:
             fy = [float(np.interp(v, x, r)) if r.size else 0.0 for v in fx]
             ax2.plot(
-                fx, fy, marker="D", markersize=5, markerfacecolor="none", color="black",
-                markeredgewidth=0.9, linestyle="none", label="isolated feature",
+                fx,
+                fy,
+                marker="D",
+                markersize=5,
+                markerfacecolor="none",
+                color="black",
+                markeredgewidth=0.9,
+                linestyle="none",
+                label="isolated feature",
             )
         if bounds:
             ax2.plot([], [], color="0.35", linestyle=":", label="section boundary")
@@ -209,30 +226,49 @@ def material_ratio_svg(
     (ISO 13565-2:1996 4.1-4.5, Figure 3).
     """
     import matplotlib
-
     import numpy as np
 
     mr, z = _material_ratio_curve(roughness_um)
     with matplotlib.rc_context(_RC):
         fig = _figure(width_cm, height_cm)
         ax = fig.subplots()
-        ms, zs = _decimate(mr, z, 600)
+        ms, zs = _decimate(mr, z, 300)
         ax.plot(ms, zs, color="black", label="material ratio curve")
         if rk is not None and z.size:
-            top = float(np.interp(rk.mr1_pct, mr, z))
+            top = rk.core_top_um
+            if top is None:
+                top = float(np.interp(rk.mr1_pct, mr, z))
             bottom = top - rk.rk_um
-            ax.plot([0, 100], [top, bottom], color="black", linestyle="--", linewidth=0.9,
-                    label=f"core line, Rk {rk.rk_um:.3g} µm")
+            ax.plot(
+                [0, 100],
+                [top, bottom],
+                color="black",
+                linestyle="--",
+                linewidth=0.9,
+                label=f"core line, Rk {rk.rk_um:.3g} µm",
+            )
             for level in (top, bottom):
                 ax.axhline(level, color="0.45", linestyle=":", linewidth=0.7)
             for pct in (rk.mr1_pct, rk.mr2_pct):
                 ax.axvline(pct, color="0.45", linestyle=":", linewidth=0.7)
-            ax.fill([0, 0, rk.mr1_pct], [top, top + rk.rpk_um, top], facecolor="0.8",
-                    edgecolor="black", linewidth=0.5, hatch="////",
-                    label=f"Rpk {rk.rpk_um:.3g} µm, Mr1 {rk.mr1_pct:.3g} %")
-            ax.fill([rk.mr2_pct, 100, 100], [bottom, bottom, bottom - rk.rvk_um],
-                    facecolor="white", edgecolor="black", linewidth=0.5, hatch="....",
-                    label=f"Rvk {rk.rvk_um:.3g} µm, Mr2 {rk.mr2_pct:.3g} %")
+            ax.fill(
+                [0, 0, rk.mr1_pct],
+                [top, top + rk.rpk_um, top],
+                facecolor="0.8",
+                edgecolor="black",
+                linewidth=0.5,
+                hatch="////",
+                label=f"Rpk {rk.rpk_um:.3g} µm, Mr1 {rk.mr1_pct:.3g} %",
+            )
+            ax.fill(
+                [rk.mr2_pct, 100, 100],
+                [bottom, bottom, bottom - rk.rvk_um],
+                facecolor="white",
+                edgecolor="black",
+                linewidth=0.5,
+                hatch="\\\\\\\\",
+                label=f"Rvk {rk.rvk_um:.3g} µm, Mr2 {rk.mr2_pct:.3g} %",
+            )
         ax.set_xlim(0, 100)
         ax.set_xlabel("material ratio, %")
         ax.set_ylabel("height, µm")
@@ -251,7 +287,6 @@ def histogram_svg(
 ) -> bytes:
     """Height distribution of the roughness profile, heights upward, with its skewness Rsk."""
     import matplotlib
-
     import numpy as np
 
     z = np.asarray(roughness_um, dtype=np.float64)
@@ -267,9 +302,17 @@ def histogram_svg(
             ax.axhline(0.0, color="black", linestyle="--", linewidth=0.8, label="mean line")
             ax.set_ylim(float(edges[0]), float(edges[-1]))
         label = f"Rsk = {rsk:.3g}" if rsk is not None else "Rsk not computed"
-        ax.text(0.97, 0.96, label, transform=ax.transAxes, ha="right", va="top",
-                fontsize=8, fontweight="bold",
-                bbox={"facecolor": "white", "edgecolor": "0.6", "linewidth": 0.5})
+        ax.text(
+            0.97,
+            0.96,
+            label,
+            transform=ax.transAxes,
+            ha="right",
+            va="top",
+            fontsize=8,
+            fontweight="bold",
+            bbox={"facecolor": "white", "edgecolor": "0.6", "linewidth": 0.5},
+        )
         ax.set_xlabel("share of points, %")
         ax.set_ylabel("height, µm")
         ax.set_title("Height distribution")

@@ -31,7 +31,13 @@ from speccheck.errors import ReportError
 from speccheck.report.pdf import read_embedded_files
 from speccheck.report.writer import MANIFEST_KIND, MANIFEST_NAME, RESULT_NAME
 
-__all__ = ["RELATIVE_TOLERANCE", "SignatureCheck", "VerifyResult", "verify_report", "compare_results"]
+__all__ = [
+    "RELATIVE_TOLERANCE",
+    "SignatureCheck",
+    "VerifyResult",
+    "verify_report",
+    "compare_results",
+]
 
 RELATIVE_TOLERANCE = 1e-9
 ABSOLUTE_TOLERANCE = 1e-12
@@ -70,8 +76,12 @@ class VerifyResult:
     def ok(self) -> bool:
         s = self.signature
         return (
-            s.present and s.intact and s.whole_file and s.trusted is not False
-            and self.equal and not self.problems
+            s.present
+            and s.intact
+            and s.whole_file
+            and s.trusted is not False
+            and self.equal
+            and not self.problems
         )
 
     def to_dict(self) -> dict[str, Any]:
@@ -148,8 +158,8 @@ def _check_signature(data: bytes, trust: Sequence[Path]) -> SignatureCheck:
 
     from pyhanko.keys import load_cert_from_pemder
     from pyhanko.pdf_utils.reader import PdfFileReader
-    from pyhanko.sign.validation.errors import SignatureValidationError
     from pyhanko.sign.validation import validate_pdf_signature
+    from pyhanko.sign.validation.errors import SignatureValidationError
     from pyhanko.sign.validation.status import SignatureCoverageLevel
     from pyhanko_certvalidator import ValidationContext
 
@@ -273,7 +283,8 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
     except (ValueError, KeyError, TypeError) as exc:
         raise ReportError(
             f"the attached manifest or result is not valid: {exc}",
-            path=str(path), where=f"attachment {MANIFEST_NAME}",
+            path=str(path),
+            where=f"attachment {MANIFEST_NAME}",
         ) from exc
 
     signature = _check_signature(data, trust)
@@ -282,7 +293,9 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
     if signature.problem:
         problems.append(signature.problem)
     if signature.present and signature.trusted is False:
-        problems.append("signer not trusted: the certificate does not match any --trust certificate")
+        problems.append(
+            "signer not trusted: the certificate does not match any --trust certificate"
+        )
     if signature.present and signature.trusted is None and not signature.problem:
         warnings.append("signer not trusted: no --trust given (identity shown, not vouched for)")
 
@@ -291,18 +304,31 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
     missing = [n for n in names if n not in files]
     if missing:
         problems.append(f"attachments missing: {', '.join(missing)}")
-        return VerifyResult(str(path), signature, recorded.get("verdict"), None, False, [],
-                            problems, warnings, sorted(files))
+        return VerifyResult(
+            str(path),
+            signature,
+            recorded.get("verdict"),
+            None,
+            False,
+            [],
+            problems,
+            warnings,
+            sorted(files),
+        )
     spec_bytes = files[spec_entry["name"]]
     if _sha256(spec_bytes) != (recorded.get("spec") or {}).get("sha256"):
-        problems.append(f"the attached specification {spec_entry['name']} is not the one evaluated "
-                        "(SHA-256 differs from the result)")
+        problems.append(
+            f"the attached specification {spec_entry['name']} is not the one evaluated "
+            "(SHA-256 differs from the result)"
+        )
     rec_meas = recorded.get("measurements") or []
     for i, e in enumerate(profile_entries):
         want = rec_meas[i].get("sha256") if i < len(rec_meas) else None
         if want and _sha256(files[e["name"]]) != want:
-            problems.append(f"the attached profile {e['name']} (measurement {i + 1}) is not the one "
-                            "evaluated (SHA-256 differs from the result)")
+            problems.append(
+                f"the attached profile {e['name']} (measurement {i + 1}) is not the one "
+                "evaluated (SHA-256 differs from the result)"
+            )
 
     recomputed_verdict = None
     differences: list[str] = []
@@ -312,8 +338,9 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
         root = Path(tmp)
         spec_dir = root / "spec"
         spec_dir.mkdir()
-        spec_path = spec_dir / _safe_name(spec_entry.get("original_path") or spec_entry["name"],
-                                          "spec.yaml")
+        spec_path = spec_dir / _safe_name(
+            spec_entry.get("original_path") or spec_entry["name"], "spec.yaml"
+        )
         spec_path.write_bytes(spec_bytes)
         profile_paths = []
         for i, e in enumerate(profile_entries):
@@ -324,7 +351,9 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
             profile_paths.append(p)
         try:
             again = evaluate_files(
-                spec_path, profile_paths, created=recorded.get("created"),
+                spec_path,
+                profile_paths,
+                created=recorded.get("created"),
                 **{k: read_options[k] for k in ("fmt", "dx", "decimal") if k in read_options},
             )
         except ReportError:

@@ -303,8 +303,13 @@ def build_view(
         part_line += f", surface {surface}"
 
     identity: list[tuple[str, str]] = [("Part number", str(number))]
-    for label, key in (("Revision", "revision"), ("Part name", "name"), ("Surface", "surface"),
-                       ("Drawing", "drawing"), ("Supplier", "supplier")):
+    for label, key in (
+        ("Revision", "revision"),
+        ("Part name", "name"),
+        ("Surface", "surface"),
+        ("Drawing", "drawing"),
+        ("Supplier", "supplier"),
+    ):
         v = part.get(key) or spec.get(key)
         if v:
             identity.append((label, str(v)))
@@ -400,28 +405,40 @@ def build_view(
         for diag in req.diagnostics or []:
             feats = _feature_dicts(diag)
             if not feats:
-                msg = diag.get("message") or diag.get("summary") or "; ".join(
-                    f"{k}: {v}" for k, v in diag.items()
+                msg = (
+                    diag.get("message")
+                    or diag.get("summary")
+                    or "; ".join(f"{k}: {v}" for k, v in diag.items())
                 )
                 m = diag.get("measurement")
-                features.append(FeatureRow(
-                    requirement=f"{i} ({req.parameter})",
-                    measurement=str(m + 1) if isinstance(m, int) else "—",
-                    position="—", depth="—", width="—", note=str(msg),
-                ))
+                features.append(
+                    FeatureRow(
+                        requirement=f"{i} ({req.parameter})",
+                        measurement=str(m + 1) if isinstance(m, int) else "—",
+                        position="—",
+                        depth="—",
+                        width="—",
+                        note=str(msg),
+                    )
+                )
             for f in feats:
                 m = f.get("measurement")
-                features.append(FeatureRow(
-                    requirement=f"{i} ({req.parameter})",
-                    measurement=str(m + 1) if isinstance(m, int) else "—",
-                    position=format_number(f.get("x_mm"), "mm"),
-                    depth=(format_number(f.get("depth_um"), "µm") + " deep"
-                           if f.get("depth_um") is not None
-                           else format_number(f.get("height_um"), "µm") + " high"
-                           if f.get("height_um") is not None else "—"),
-                    width=format_number(f.get("width_um"), "µm"),
-                    note=" ".join(str(t) for t in (f.get("kind"), f.get("message")) if t),
-                ))
+                features.append(
+                    FeatureRow(
+                        requirement=f"{i} ({req.parameter})",
+                        measurement=str(m + 1) if isinstance(m, int) else "—",
+                        position=format_number(f.get("x_mm"), "mm"),
+                        depth=(
+                            format_number(f.get("depth_um"), "µm") + " deep"
+                            if f.get("depth_um") is not None
+                            else format_number(f.get("height_um"), "µm") + " high"
+                            if f.get("height_um") is not None
+                            else "—"
+                        ),
+                        width=format_number(f.get("width_um"), "µm"),
+                        note=" ".join(str(t) for t in (f.get("kind"), f.get("message")) if t),
+                    )
+                )
 
     verdict = result.verdict
     return ReportView(

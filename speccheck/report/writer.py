@@ -106,8 +106,9 @@ def _plot_conditions(spec: Any) -> tuple[Any | None, Any | None]:
     from speccheck.parameters.conditions import Conditions
 
     def conditions(r: Any) -> Any:
-        return Conditions(r.lambda_c_mm, r.lambda_s_um, sections=r.sections, filter=r.filter,
-                          form=r.form)
+        return Conditions(
+            r.lambda_c_mm, r.lambda_s_um, sections=r.sections, filter=r.filter, form=r.form
+        )
 
     reqs = [r for r in getattr(spec, "requirements", ()) if str(r.parameter).startswith("R")]
     main = conditions(reqs[0]) if reqs else None
@@ -156,14 +157,33 @@ def profiles_for_plot(z_um: Any, *, dx_um: float, conditions: Any) -> PlotProfil
     primary, line, rough = evaluated_profile(z, dx_um=dx_um, conditions=conditions)
     x_mm = np.arange(z.size) * (dx_um / 1000.0)
     step = conditions.section_points(dx_um)
-    bounds = tuple(float(x_mm[sl.start] + k * step * dx_um / 1000.0)
-                   for k in range(conditions.sections + 1))
+    bounds = tuple(
+        float(x_mm[sl.start] + k * step * dx_um / 1000.0) for k in range(conditions.sections + 1)
+    )
     from speccheck.parameters.amplitude import skewness
 
     rows = rough[sl].reshape(conditions.sections, step)
     rsk = float(np.mean(skewness(rows)))
-    return PlotProfiles(x_mm[sl], primary[sl], line[sl], rough[sl], bounds,
-                        rsk if np.isfinite(rsk) else None)
+    return PlotProfiles(
+        x_mm[sl], primary[sl], line[sl], rough[sl], bounds, rsk if np.isfinite(rsk) else None
+    )
+
+
+def _profile_name(filter_name: str) -> str:
+    return {"iso13565-1": "ISO 13565-1", "gaussian": "Gaussian"}.get(
+        filter_name, "robust (ISO 16610-31)"
+    )
+
+
+def _rk_construction(roughness_um: Any) -> Any:
+    """The ISO 13565-2 core line of a profile, or None when no core is found."""
+    from speccheck.parameters.rk import rk_parameters
+    from speccheck.report.plots import RkConstruction
+
+    rk = rk_parameters(roughness_um)
+    if not rk:
+        return None
+    return RkConstruction(rk.Rk, rk.Rpk, rk.Rvk, rk.Mr1, rk.Mr2, core_top_um=rk.core_top_um)
 
 
 def _plots(
@@ -181,8 +201,9 @@ def _plots(
     notes: dict[int, str] = {}
     main, rk_cond = _plot_conditions(spec)
     if main is None:
-        return plots, {m.index: "No roughness requirement: no profile plot." for m in
-                       result.measurements}
+        return plots, {
+            m.index: "No roughness requirement: no profile plot." for m in result.measurements
+        }
     feats = features_by_measurement(result)
     for m, path in zip(result.measurements, profile_paths, strict=True):
         try:
@@ -215,21 +236,18 @@ def _plots(
         ]
         params = m.parameters or {}
         if rk_cond is not None:
-            rk_vals = [_number(params, n) for n in ("Rk", "Rpk", "Rvk", "Mr1", "Mr2")]
-            construction = (
-                P.RkConstruction(*rk_vals) if all(v is not None for v in rk_vals) else None
-            )
             try:
                 ev13565 = profiles_for_plot(z, dx_um=prof.dx_um, conditions=rk_cond)
             except Exception:  # fall back on the plotted roughness profile
                 ev13565 = None
             curve_src = (ev13565 or ev).roughness_um
+            construction = _rk_construction(curve_src)
             items.append(
                 PlotView(
                     "Material ratio curve",
                     P.svg_data_uri(P.material_ratio_svg(curve_src, rk=construction)),
-                    "Material ratio curve of the ISO 13565-1 roughness profile with the "
-                    "ISO 13565-2 core line and the Rpk and Rvk triangles"
+                    f"Material ratio curve of the {_profile_name(rk_cond.filter)} roughness "
+                    "profile with the ISO 13565-2 core line and the Rpk and Rvk triangles"
                     + ("." if construction else " (Rk family not computed: no core found)."),
                     wide=False,
                 )
@@ -252,9 +270,9 @@ def _plots(
 
 def render_html(view: Any) -> str:
     """Fill the report template with a :class:`~speccheck.report.view.ReportView`."""
-    from speccheck.report._resources import template_environment, template_text
-
     from markupsafe import Markup
+
+    from speccheck.report._resources import template_environment, template_text
 
     env = template_environment()
     # the style sheet is ours, not data: mark it safe so its quotes are not escaped
@@ -321,9 +339,15 @@ def write_report(
     now = _dt.datetime.now(_dt.UTC).replace(microsecond=0)
     if signer is not None:
         who = signer.name + (f" ({signer.organisation})" if signer.organisation else "")
-        note = DEMO_KEY_NOTE if demo_key else (
-            "Self-signed certificate: verify with the signer's certificate file "
-            "(speccheck verify --trust CERT.pem)." if signer.self_signed else ""
+        note = (
+            DEMO_KEY_NOTE
+            if demo_key
+            else (
+                "Self-signed certificate: verify with the signer's certificate file "
+                "(speccheck verify --trust CERT.pem)."
+                if signer.self_signed
+                else ""
+            )
         )
         sig_view = SignatureView(
             signed=True,
@@ -383,8 +407,11 @@ def write_report(
         "kind": MANIFEST_KIND,
         "manifest_version": MANIFEST_VERSION,
         "software": {"name": "speccheck", "version": __version__},
-        "spec": {"name": spec_name, "sha256": hashlib.sha256(raw_spec).hexdigest(),
-                 "original_path": str(spec.path)},
+        "spec": {
+            "name": spec_name,
+            "sha256": hashlib.sha256(raw_spec).hexdigest(),
+            "original_path": str(spec.path),
+        },
         "profiles": [
             {"name": n, "sha256": hashlib.sha256(b).hexdigest(), "original_path": str(p)}
             for n, b, p in zip(profile_names, profile_bytes, profile_paths, strict=True)
@@ -400,8 +427,9 @@ def write_report(
         for i, (n, b) in enumerate(zip(profile_names, profile_bytes, strict=True), 1)
     ]
     files.append(EmbeddedFile(RESULT_NAME, result_json.encode("utf-8"), "result"))
-    files.append(EmbeddedFile(MANIFEST_NAME, json.dumps(manifest, indent=2).encode("utf-8"),
-                              "manifest"))
+    files.append(
+        EmbeddedFile(MANIFEST_NAME, json.dumps(manifest, indent=2).encode("utf-8"), "manifest")
+    )
     pdf = embed_files(pdf, files)
 
     if sign_p12 is not None:
