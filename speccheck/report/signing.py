@@ -22,6 +22,8 @@ __all__ = [
     "read_passphrase",
     "new_key",
     "signer_identity",
+    "SigningKey",
+    "open_key",
     "sign_pdf",
 ]
 
@@ -237,9 +239,12 @@ def _load_p12(p12_path: Path, passphrase: bytes | None):
 
 def signer_identity(p12_path: Path, passphrase: bytes | None) -> SignerIdentity:
     """Read the name, organisation and fingerprint of the key's certificate."""
-    from cryptography.x509.oid import NameOID
-
     _, cert, _ = _load_p12(p12_path, passphrase)
+    return _identity(cert)
+
+
+def _identity(cert) -> SignerIdentity:
+    from cryptography.x509.oid import NameOID
 
     def attr(oid) -> str | None:
         vals = cert.subject.get_attributes_for_oid(oid)
@@ -254,40 +259,20 @@ def signer_identity(p12_path: Path, passphrase: bytes | None) -> SignerIdentity:
     )
 
 
-def sign_pdf(
-    pdf_bytes: bytes,
-    *,
-    p12_path: Path,
-    passphrase: bytes | None,
-    field_name: str = SIGNATURE_FIELD,
-    reason: str | None = None,
-    location: str | None = None,
-) -> bytes:
-    """Sign a PDF with the key in a PKCS#12 file: PAdES baseline B (ETSI EN 319 142-1), SHA-256.
+@dataclass(frozen=True)
+class SigningKey:
+    """A key opened once: its identity for the face of the record and the signer for pyHanko."""
 
-    Parameters
-    ----------
-    pdf_bytes:
-        The finished document; the signature is added as an incremental update covering it all.
-    p12_path, passphrase:
-        The key; a wrong or missing passphrase is a :class:`ReportError`.
-    field_name:
-        Name of the (invisible) signature field.
-    reason, location:
-        Written into the signature dictionary.
+    identity: SignerIdentity
+    signer: object  # pyhanko.sign.signers.SimpleSigner
 
-    Returns
-    -------
-    bytes
-        The signed PDF.
-    """
-    from io import BytesIO
 
+def open_key(p12_path: Path, passphrase: bytes | None) -> SigningKey:
+    """Open a PKCS#12 key for signing (decrypting it once; a wrong passphrase fails here)."""
     from asn1crypto import keys as asn1_keys
     from asn1crypto import x509 as asn1_x509
     from cryptography.hazmat.primitives import serialization
-    from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
-    from pyhanko.sign import fields, signers
+    from pyhanko.sign import signers
     from pyhanko_certvalidator.registry import SimpleCertificateStore
 
     key, cert, extra = _load_p12(p12_path, passphrase)
@@ -305,6 +290,48 @@ def sign_pdf(
         signing_key=signing_key,
         cert_registry=SimpleCertificateStore.from_certs([signing_cert, *others]),
     )
+    return SigningKey(identity=_identity(cert), signer=signer)
+
+
+def sign_pdf(
+    pdf_bytes: bytes,
+    *,
+    p12_path: Path | None = None,
+    passphrase: bytes | None = None,
+    field_name: str = SIGNATURE_FIELD,
+    reason: str | None = None,
+    location: str | None = None,
+    key: SigningKey | None = None,
+) -> bytes:
+    """Sign a PDF with the key in a PKCS#12 file: PAdES baseline B (ETSI EN 319 142-1), SHA-256.
+
+    Parameters
+    ----------
+    pdf_bytes:
+        The finished document; the signature is added as an incremental update covering it all.
+    p12_path, passphrase:
+        The key; a wrong or missing passphrase is a :class:`ReportError`.
+    field_name:
+        Name of the (invisible) signature field.
+    reason, location:
+        Written into the signature dictionary.
+    key:
+        A key already opened with :func:`open_key` (then ``p12_path`` is not read).
+
+    Returns
+    -------
+    bytes
+        The signed PDF.
+    """
+    from io import BytesIO
+
+    from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
+    from pyhanko.sign import fields, signers
+
+    if key is None:
+        if p12_path is None:
+            raise ReportError("no key to sign with")
+        key = open_key(Path(p12_path), passphrase)
     meta = signers.PdfSignatureMetadata(
         field_name=field_name,
         md_algorithm="sha256",
@@ -314,7 +341,7 @@ def sign_pdf(
     )
     try:
         writer = IncrementalPdfFileWriter(BytesIO(pdf_bytes), strict=False)
-        out = signers.sign_pdf(writer, meta, signer=signer)
+        out = signers.sign_pdf(writer, meta, signer=key.signer)
     except Exception as exc:  # pyHanko raises several types for unreadable input
         raise ReportError(f"cannot sign the document: {exc}") from exc
     return out.getvalue()

@@ -321,7 +321,7 @@ def write_report(
     -------
     ReportInfo
     """
-    from speccheck.report.signing import sign_pdf, signer_identity
+    from speccheck.report.signing import open_key, sign_pdf
 
     out_path = Path(out_path)
     read_options = {
@@ -333,9 +333,10 @@ def write_report(
     raw_spec = bytes(spec.raw)
     profile_bytes = _read_profiles(result, profile_paths)
 
-    signer = None
+    signer = key = None
     if sign_p12 is not None:
-        signer = signer_identity(Path(sign_p12), passphrase)  # wrong passphrase fails here, early
+        key = open_key(Path(sign_p12), passphrase)  # a wrong passphrase fails here, early
+        signer = key.identity
     now = _dt.datetime.now(_dt.UTC).replace(microsecond=0)
     if signer is not None:
         who = signer.name + (f" ({signer.organisation})" if signer.organisation else "")
@@ -432,14 +433,14 @@ def write_report(
     )
     pdf = embed_files(pdf, files)
 
-    if sign_p12 is not None:
+    if key is not None:
         number = (getattr(spec, "part", None) or {}).get("number", "?")
         reason = f"Surface finish conformance record, part {number}"
         if signer_role:
             reason += f"; signer role: {signer_role}"
         if demo_key:
             reason += "; DEMONSTRATION KEY"
-        pdf = sign_pdf(pdf, p12_path=Path(sign_p12), passphrase=passphrase, reason=reason)
+        pdf = sign_pdf(pdf, key=key, reason=reason)
 
     atomic_write_bytes(out_path, pdf)
     return ReportInfo(
