@@ -60,7 +60,9 @@ def um_per_unit(unit: str, *, path: str | None = None, where: str | None = None)
     c = canonical_unit(unit)
     if c is None:
         known = ", ".join(["µm", *UM_PER_UNIT])
-        raise SpeccheckError(f"unknown length unit {unit!r} (known: {known})", path=path, where=where)
+        raise SpeccheckError(
+            f"unknown length unit {unit!r} (known: {known})", path=path, where=where
+        )
     return UM_PER_UNIT[c]
 
 
@@ -126,7 +128,9 @@ def parse_length(
     else:
         m = _NUMBER_UNIT.match(str(text))
         if not m:
-            raise SpeccheckError(f"cannot read {text!r} as a length such as '0.8mm'", path=path, where=where)
+            raise SpeccheckError(
+                f"cannot read {text!r} as a length such as '0.8mm'", path=path, where=where
+            )
         value = float(m.group(1))
         found: str | None = m.group(2) or default_unit
         if found is None:
@@ -146,4 +150,6 @@ def parse_length(
         q = _ureg().Quantity(value, unit.strip())
         return Length(float(q.to("micrometer").magnitude))
     except Exception as exc:  # pint raises several unrelated types
-        raise SpeccheckError(f"unknown length unit {unit.strip()!r} in {text!r}", path=path, where=where) from exc
+        raise SpeccheckError(
+            f"unknown length unit {unit.strip()!r} in {text!r}", path=path, where=where
+        ) from exc

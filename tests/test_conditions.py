@@ -396,3 +396,15 @@ def test_cutoff_never_decreases_with_the_value(parameter, table, top):
         )
 
     check()
+
+
+def test_numpy_scalars_are_accepted_and_normalised():
+    import numpy as np
+
+    c = Conditions(np.float64(0.8), np.float32(2.5), sections=np.int64(3))
+    assert type(c.lambda_c_mm) is float and type(c.sections) is int
+    assert c == Conditions(0.8, 2.5, sections=3)
+    with pytest.raises(SpeccheckError, match="sections must be a whole number ≥ 1, got 2.5"):
+        Conditions(0.8, 2.5, sections=2.5)
+    with pytest.raises(SpeccheckError, match="lambda_c_mm must be a positive number, got True"):
+        Conditions(True, 2.5)

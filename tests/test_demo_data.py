@@ -152,12 +152,10 @@ def test_demo_profiles_match_their_catalogue_descriptions():
     assert diff.max() == pytest.approx(10.0) and np.count_nonzero(diff) == 11  # 6 µm at 0.5 µm
 
 
-def test_write_demo_data_reads_back(tmp_path, run_cli):
-    status, out, err = run_cli("demo", "--out", tmp_path / "d")
-    assert status == 0 and err == ""
-    lines = out.splitlines()
-    assert len(lines) == len(demo.DEMO_CATALOGUE) + 1
-    assert lines[0].split()[:3] == ["kfp-2041_ardent_01", "11201", "points"]
+def test_write_demo_data_reads_back(tmp_path):
+    rows = demo.prepare_demo_folder(tmp_path / "d")
+    assert len(rows) == len(demo.DEMO_CATALOGUE)
+    assert (rows[0]["name"], rows[0]["points"]) == ("kfp-2041_ardent_01", 11201)
     profiles = demo.build_demo_profiles()
     for name, p in profiles.items():
         a = read_profile(tmp_path / "d" / f"{name}.csv")

@@ -416,3 +416,38 @@ def test_gaussian_equals_direct_weighted_mean_everywhere(n):
     ref = np.convolve(z, k)[r : r + n] / np.convolve(np.ones(n), k)[r : r + n]
     got = gaussian_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM)
     np.testing.assert_allclose(got, ref, rtol=0, atol=1e-11)
+
+
+def test_valley_suppression_reuses_a_given_first_mean_line():
+    # the step-1 line passed in must give the same reference line as computing it (valley.py)
+    n = 8000
+    x = np.arange(n) * DX_UM
+    z = 0.3 * np.sin(2 * np.pi * x / 50.0) - np.where((x % 200.0) < 20.0, 6.0, 0.0)
+    first = gaussian_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM)
+    a = valley_suppressed_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM)
+    b = valley_suppressed_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM, mean_line_um=first)
+    np.testing.assert_array_equal(a, b)
+    with pytest.raises(SpeccheckError, match=r"mean_line_um must have the shape of z_um \(8000,\)"):
+        valley_suppressed_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM, mean_line_um=first[:-1])
+
+
+@pytest.mark.parametrize("order", [0, 2])
+def test_unit_weights_shortcut_equals_explicit_weights(order):
+    # δ = 1 moments come from cumulative sums (robust.py), explicit weights from FFTs: same line
+    rng = np.random.default_rng(11 + order)
+    z = np.cumsum(rng.normal(size=9000)) * 0.05 + rng.normal(size=9000)
+    a = regression_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM, order=order)
+    b = regression_mean_line(z, dx_um=DX_UM, cutoff_um=LC_UM, order=order, weights=np.ones(9000))
+    np.testing.assert_allclose(a, b, rtol=0, atol=1e-9)
+
+
+@pytest.mark.parametrize(("n", "k"), [(50, 7), (5, 7), (3000, 1001)])
+def test_ones_response_equals_numpy_convolve(n, k):
+    from speccheck.filters._blockconv import ones_response
+
+    # reference: numpy.convolve of ones with an asymmetric kernel, 'same' = full[r : r + n]
+    kern = np.random.default_rng(k).normal(size=k)
+    r = (k - 1) // 2
+    np.testing.assert_allclose(
+        ones_response(kern, n), np.convolve(np.ones(n), kern)[r : r + n], atol=1e-12
+    )

@@ -87,7 +87,8 @@ def test_heavy_libraries_not_imported_at_module_level_of_cli_main():
 
     code = (
         "import sys, speccheck.cli.main as m; "
-        "heavy = [n for n in ('numpy','scipy','matplotlib','weasyprint','pyhanko','pint','pydantic')"
+        "heavy = [n for n in ('numpy', 'scipy', 'matplotlib', 'weasyprint', 'pyhanko', 'pint',"
+        " 'pydantic')"
         " if n in sys.modules]; print(','.join(heavy))"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)

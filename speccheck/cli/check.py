@@ -50,7 +50,8 @@ def _values_text(req: Any) -> str:
         if v.value is None:
             out.append("not evaluated")
             continue
-        mark = " (exceeding)" if v.counts_as == "exceeding" else ""
+        beyond = "below" if req.lower is not None and v.value < req.lower else "exceeding"
+        mark = f" ({beyond})" if v.counts_as == "exceeding" else ""
         if v.zone == "uncertain":  # within ±U of a limit: say how the decision rule counted it
             mark = f" (±U, counted {'exceeding' if v.counts_as == 'exceeding' else 'within'})"
         out.append(f"{_num(v.value)}{mark}")
@@ -103,10 +104,9 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
     console.print(table)
     console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
     for i, req in enumerate(result.requirements, start=1):
+        console.print(f"#{i} {req.verdict}: {req.explanation}")
         if req.next:
-            console.print(f"Next for #{i} ({req.text}): {req.next}.")
-        elif req.reason == "uncertainty-range":
-            console.print(f"Note on #{i} ({req.text}): {req.explanation}")
+            console.print(f"   Next: {req.next}.")
     for m in result.measurements:
         if m.status != "evaluated":
             name = Path(m.path).name if m.path else f"profile {m.index + 1}"

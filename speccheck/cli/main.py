@@ -19,13 +19,25 @@ from speccheck.errors import ExitStatus, SpeccheckError
 # command name -> (module, one-line help shown by --help without importing the module)
 COMMANDS: dict[str, tuple[str, str]] = {
     "demo": ("speccheck.cli.demo", "Build the demo data set and run the whole job on it."),
-    "info": ("speccheck.cli.info", "Describe a measured profile file (points, spacing, dropouts, hash)."),
+    "info": (
+        "speccheck.cli.info",
+        "Describe a measured profile file (points, spacing, dropouts, hash).",
+    ),
     "params": ("speccheck.cli.params", "Compute surface-texture parameters of a profile."),
-    "check": ("speccheck.cli.check", "Check profiles against a specification file: verdict and exit status."),
-    "explain": ("speccheck.cli.explain", "Say in plain words what each requirement of a spec asks for."),
+    "check": (
+        "speccheck.cli.check",
+        "Check profiles against a specification file: verdict and exit status.",
+    ),
+    "explain": (
+        "speccheck.cli.explain",
+        "Say in plain words what each requirement of a spec asks for.",
+    ),
     "lint": ("speccheck.cli.lint", "Find mistakes and risky choices in specification files."),
     "schema": ("speccheck.cli.schema", "Print the JSON Schema of specification files."),
-    "verify": ("speccheck.cli.verify", "Verify a signed conformance record and recompute its result."),
+    "verify": (
+        "speccheck.cli.verify",
+        "Verify a signed conformance record and recompute its result.",
+    ),
     "key": ("speccheck.cli.key", "Make a signing key and certificate (PKCS#12)."),
     "lot": ("speccheck.cli.lot", "Inspect a lot of parts under a sampling plan."),
     "records": ("speccheck.cli.records", "List, show, export, audit and trend the records store."),
@@ -87,7 +99,9 @@ def main(argv: list[str] | None = None) -> int:
         if os.environ.get("SPECCHECK_DEBUG"):
             raise
         msg = " ".join(f"{type(exc).__name__}: {exc}".split())
-        click.echo(f"speccheck: internal error: {msg} (set SPECCHECK_DEBUG=1 for a traceback)", err=True)
+        click.echo(
+            f"speccheck: internal error: {msg} (set SPECCHECK_DEBUG=1 for a traceback)", err=True
+        )
         rv = ExitStatus.ERROR
     if rv is None:
         rv = 0

@@ -12,7 +12,9 @@ import click
 json_flag = click.option("--json", "as_json", is_flag=True, help="Print JSON instead of a table.")
 
 
-def json_out_option(help_: str = "Write the result as JSON to FILE ('-' for standard output).") -> Any:
+def json_out_option(
+    help_: str = "Write the result as JSON to FILE ('-' for standard output).",
+) -> Any:
     return click.option("--json", "json_out", metavar="FILE", default=None, help=help_)
 
 
@@ -24,7 +26,10 @@ format_option = click.option(
     help="File format (default: from the file's extension).",
 )
 dx_option = click.option(
-    "--dx", default=None, metavar="LENGTH", help="Sampling spacing for z-only text files, e.g. 0.5um."
+    "--dx",
+    default=None,
+    metavar="LENGTH",
+    help="Sampling spacing for z-only text files, e.g. 0.5um.",
 )
 decimal_option = click.option(
     "--decimal",
@@ -33,7 +38,9 @@ decimal_option = click.option(
     show_default=True,
     help="Decimal separator of text files.",
 )
-cutoff_option = click.option("--cutoff", default=None, metavar="LENGTH", help="Cut-off λc, e.g. 0.8mm.")
+cutoff_option = click.option(
+    "--cutoff", default=None, metavar="LENGTH", help="Cut-off λc, e.g. 0.8mm."
+)
 
 
 def write_json(obj: Any, dest: str) -> None:

@@ -35,19 +35,42 @@ _HOLLOWAY = ("kfp-3310_holloway_01.x3p", "kfp-3310_holloway_02.x3p", "kfp-3310_h
 _FLANGE = ("kfp-1187_inhouse_01.x3p", "kfp-1187_inhouse_02.x3p", "kfp-1187_inhouse_03.x3p")
 
 DEMO_CASES: tuple[DemoCase, ...] = (
-    DemoCase("kfp-2041-seal-seat.yaml", _ARDENT, "conforming",
-             "ground seal seat, ISO 1302 callouts, 16 % rule and max-rule"),
-    DemoCase("kfp-2041-asme.yaml", _ARDENT, "conforming",
-             "same shafts on an ASME Y14.36 drawing: every value is a maximum"),
-    DemoCase("kfp-2041-iso21920.yaml", _ARDENT, "undecided",
-             "tighter Rz under the 16 % rule: one of three exceeds, measure three more"),
-    DemoCase("kfp-3310-bore.yaml", _HOLLOWAY, "conforming",
-             "plateau-honed bore, Rk family on the robust filter"),
-    DemoCase("kfp-3310-incoming-guarded-rejection.yaml",
-             (*_HOLLOWAY, "kfp-3310_holloway_04_scratch.x3p"), "conforming",
-             "guarded rejection: values within U of the limit are not proof of non-conformity"),
-    DemoCase("kfp-1187-flange-face.yaml", _FLANGE, "nonconforming",
-             "turned gasket face below its lower Ra limit: too smooth to grip the gasket"),
+    DemoCase(
+        "kfp-2041-seal-seat.yaml",
+        _ARDENT,
+        "conforming",
+        "ground seal seat, ISO 1302 callouts, 16 % rule and max-rule",
+    ),
+    DemoCase(
+        "kfp-2041-asme.yaml",
+        _ARDENT,
+        "conforming",
+        "same shafts on an ASME Y14.36 drawing: every value is a maximum",
+    ),
+    DemoCase(
+        "kfp-2041-iso21920.yaml",
+        _ARDENT,
+        "undecided",
+        "tighter Rz under the 16 % rule: one of three exceeds, measure three more",
+    ),
+    DemoCase(
+        "kfp-3310-bore.yaml",
+        _HOLLOWAY,
+        "conforming",
+        "plateau-honed bore, Rk family on the robust filter",
+    ),
+    DemoCase(
+        "kfp-3310-incoming-guarded-rejection.yaml",
+        (*_HOLLOWAY, "kfp-3310_holloway_04_scratch.x3p"),
+        "conforming",
+        "guarded rejection: values within U of the limit are not proof of non-conformity",
+    ),
+    DemoCase(
+        "kfp-1187-flange-face.yaml",
+        _FLANGE,
+        "nonconforming",
+        "turned gasket face below its lower Ra limit: too smooth to grip the gasket",
+    ),
 )
 
 
@@ -88,8 +111,13 @@ def _demo_key(folder: Path) -> tuple[Path, bytes, Path]:
     passphrase = secrets.token_urlsafe(18).encode()
     pw_file.write_bytes(passphrase + b"\n")
     pw_file.chmod(0o600)
-    new_key(p12, name="DEMO KEY - Kestrel Fluid Power incoming inspection (throwaway)",
-            organisation="Kestrel Fluid Power (fictional)", passphrase=passphrase, days=30)
+    new_key(
+        p12,
+        name="DEMO KEY - Kestrel Fluid Power incoming inspection (throwaway)",
+        organisation="Kestrel Fluid Power (fictional)",
+        passphrase=passphrase,
+        days=30,
+    )
     return p12, passphrase, p12.with_suffix(".pem")
 
 
@@ -106,6 +134,8 @@ def run_demo(folder: str | Path, *, echo: Callable[[str], None] = print) -> Demo
     from speccheck.spec.loader import load_spec
 
     root = Path(folder)
+    if root.exists() and not root.is_dir():
+        raise SpeccheckError("exists and is not a folder", path=str(root))
     root.mkdir(parents=True, exist_ok=True)
     run = DemoRun(folder=root)
     data, specs, reports = root / "profiles", root / "specs", root / "reports"
@@ -124,8 +154,13 @@ def run_demo(folder: str | Path, *, echo: Callable[[str], None] = print) -> Demo
         result = evaluate_files(spec_path, profile_paths)
         pdf = reports / (Path(case.spec).stem + ".pdf")
         info = write_report(
-            result, out_path=pdf, spec=load_spec(spec_path), profile_paths=profile_paths,
-            sign_p12=p12, passphrase=passphrase, signer_role="Incoming inspection (demo)",
+            result,
+            out_path=pdf,
+            spec=load_spec(spec_path),
+            profile_paths=profile_paths,
+            sign_p12=p12,
+            passphrase=passphrase,
+            signer_role="Incoming inspection (demo)",
             demo_key=True,
         )
         store.append_check(result, report_sha256=info.sha256, signer=info.signer)
@@ -141,11 +176,19 @@ def run_demo(folder: str | Path, *, echo: Callable[[str], None] = print) -> Demo
     plan_path = build_demo_lot(root / "lot", ground_profile=ground_profile)
     lot = inspect_lot(load_plan(plan_path), root / "lot" / "data", workers=1)
     run.lot_report = reports / "lot-ARD-2611-014.pdf"
-    lot_sha = write_lot_report(lot, out_path=run.lot_report, plan_raw=plan_path.read_bytes(),
-                               sign_p12=p12, passphrase=passphrase)
+    lot_sha = write_lot_report(
+        lot,
+        out_path=run.lot_report,
+        plan_raw=plan_path.read_bytes(),
+        sign_p12=p12,
+        passphrase=passphrase,
+    )
     store.append_lot(lot, report_sha256=lot_sha, signer="DEMO KEY")
     run.lot_disposition = lot.disposition
-    echo(f"lot {lot.lot.get('id')}: {lot.disposition.upper()} ({lot.reason}) -> {run.lot_report.name}")
+    echo(
+        f"lot {lot.lot.get('id')}: {lot.disposition.upper()} ({lot.reason})"
+        f" -> {run.lot_report.name}"
+    )
 
     audit = store.audit()
     run.audit_ok = audit.intact

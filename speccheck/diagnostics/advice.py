@@ -23,7 +23,20 @@ __all__ = ["BALANCE_BASES", "EXTREME_BASES", "sensitive_parameter_advice"]
 #: Single-point-sensitive bases that express peak/valley balance, and their stable counterparts.
 BALANCE_BASES = ("sk", "ku")
 _BALANCE_STABLE = (
-    "p", "v", "pm", "vm", "k", "pk", "vk", "mr1", "mr2", "A1", "A2", "pq", "vq", "mq"
+    "p",
+    "v",
+    "pm",
+    "vm",
+    "k",
+    "pk",
+    "vk",
+    "mr1",
+    "mr2",
+    "A1",
+    "A2",
+    "pq",
+    "vq",
+    "mq",
 )
 #: Single-point-sensitive bases that express an extreme height, and their stable counterparts.
 EXTREME_BASES = ("t", "max", "z1max")

@@ -87,7 +87,21 @@ HEIGHT_DOMINATED = 0.30
 
 #: Base names (without profile letter) this module recomputes, in report order.
 ANALYSED_BASES = (
-    "sk", "ku", "t", "max", "z1max", "p", "v", "z", "a", "q", "pm", "vm", "k", "pk", "vk"
+    "sk",
+    "ku",
+    "t",
+    "max",
+    "z1max",
+    "p",
+    "v",
+    "z",
+    "a",
+    "q",
+    "pm",
+    "vm",
+    "k",
+    "pk",
+    "vk",
 )
 #: Relative changes of heights are taken against at least this share of Rq (without features),
 #: so that Rvk going from 0.01 µm to 0.03 µm on a profile without valleys is not "dominated".
@@ -170,9 +184,7 @@ def split_sections(n_points: int, sections: int) -> list[slice]:
     return [slice(int(a), int(b)) for a, b in zip(edges[:-1], edges[1:], strict=True)]
 
 
-def recompute(
-    z_um, *, sections: list[slice], bases=ANALYSED_BASES, rk_um=None
-) -> dict[str, float]:
+def recompute(z_um, *, sections: list[slice], bases=ANALYSED_BASES, rk_um=None) -> dict[str, float]:
     """Parameters of ``bases`` on heights ``z_um``, as :mod:`speccheck.parameters.compute` does.
 
     Parameters

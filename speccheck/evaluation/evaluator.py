@@ -345,10 +345,18 @@ def _requirement_result(
         high, _ = _judge(req, values, "guarded-rejection")  # uncertainty range counted within
         hinges = low.verdict != high.verdict
 
-    rule_text = "16 % rule (ISO 4288 5.2)" if req.rule == "16%" else "max-rule (ISO 4288 5.3)"
+    if req.rule == "16%":
+        rule_text = "16 % rule (ISO 4288 5.2)"
+    elif spec.convention == "asme":
+        rule_text = "maximum (ASME Y14.36: a single value is a maximum)"
+    else:
+        rule_text = "max-rule (ISO 4288 5.3)"
     side_texts = []
     for (side, _lim), o in zip(_sides(req), per_side, strict=True):
-        side_texts.append(f"{side} limit: {o.step}" if len(per_side) > 1 else o.step)
+        step = o.step
+        if side == "lower":  # the rules count "exceeding"; for a lower limit that is "below"
+            step = step.replace("exceeds", "falls below").replace("exceed", "fall below")
+        side_texts.append(f"{side} limit: {step}" if len(per_side) > 1 else step)
     explanation = (
         f"{req.parameter} against the {_limits_text(req)}, {rule_text}: {'; '.join(side_texts)}"
     )

@@ -57,7 +57,9 @@ class RequirementResult:
     explanation: str  # one sentence for people
     next: str | None  # what to do next, spelled out; None when decided
     values: list[ValueRecord] = field(default_factory=list)
-    conditions: dict[str, Any] = field(default_factory=dict)  # lambda_c_mm, lambda_s_um, sections, ...
+    conditions: dict[str, Any] = field(
+        default_factory=dict
+    )  # lambda_c_mm, lambda_s_um, sections, ...
     diagnostics: list[dict[str, Any]] = field(default_factory=list)
 
 

@@ -10,7 +10,23 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["BlockConvolver"]
+__all__ = ["BlockConvolver", "ones_response"]
+
+
+def ones_response(kernel: np.ndarray, n: int) -> np.ndarray:
+    """'same' convolution of n ones with an odd-length kernel, in O(n + K).
+
+    Output i sums the kernel taps j with 0 ≤ i + r − j ≤ n − 1: the whole kernel inside the
+    profile, a difference of cumulative sums within r points of either end.
+    """
+    r = (kernel.size - 1) // 2
+    c = np.concatenate(([0.0], np.cumsum(kernel)))
+    out = np.full(n, c[-1])
+    edge = np.arange(n) if n <= 2 * r else np.concatenate((np.arange(r), np.arange(n - r, n)))
+    lo = np.maximum(0, edge + r - (n - 1))
+    hi = np.minimum(2 * r, edge + r)
+    out[edge] = c[hi + 1] - c[lo]
+    return out
 
 
 def _pow2_at_least(n: int) -> int:

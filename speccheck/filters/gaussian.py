@@ -77,19 +77,10 @@ def gaussian_kernel(
 
 
 def _edge_mass(kernel: np.ndarray, n: int) -> np.ndarray:
-    """Kernel mass that falls inside a profile of n points, for every output point.
+    """Kernel mass that falls inside a profile of n points, for every output point."""
+    from speccheck.filters._blockconv import ones_response
 
-    1 (to rounding) except within r = len(kernel) // 2 points of either end, where it is a
-    difference of the kernel's cumulative sums; only those points are computed.
-    """
-    r = (kernel.size - 1) // 2
-    c = np.concatenate(([0.0], np.cumsum(kernel)))
-    mass = np.ones(n)
-    edge = np.arange(n) if n <= 2 * r else np.concatenate((np.arange(r), np.arange(n - r, n)))
-    lo = np.clip(r - edge, 0, 2 * r + 1)
-    hi = np.clip(r + (n - 1) - edge, -1, 2 * r)
-    mass[edge] = c[hi + 1] - c[lo]
-    return mass
+    return ones_response(kernel, n)
 
 
 @lru_cache(maxsize=8)

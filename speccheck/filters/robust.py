@@ -35,7 +35,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from speccheck.errors import SpeccheckError
-from speccheck.filters._blockconv import BlockConvolver
+from speccheck.filters._blockconv import BlockConvolver, ones_response
 from speccheck.filters._checks import as_heights, positive_length
 from speccheck.filters.gaussian import ALPHA, gaussian_kernel
 
@@ -117,16 +117,24 @@ class _Regression:
         self.r = (s.size - 1) // 2
         u = np.arange(-self.r, self.r + 1, dtype=np.float64) * dx_um / (gamma * cutoff_um)
         # correlation sum_i h(u_i) f_i = convolution with h(-u) = (-1)^k h(u)
-        kernels = [s * (-u) ** k for k in range(2 * order + 1)]
-        self.conv = BlockConvolver(n, kernels)
+        self.kernels = [s * (-u) ** k for k in range(2 * order + 1)]
+        self.conv = BlockConvolver(n, self.kernels)
 
     def _conv(self, f_spec: np.ndarray, k: int) -> np.ndarray:
         return self.conv.convolve(f_spec, k)
 
-    def fit(self, z: np.ndarray, delta: np.ndarray, fallback: np.ndarray | None) -> np.ndarray:
-        fd = self.conv.transform(delta)
-        fz = self.conv.transform(delta * z)
-        m0 = self._conv(fd, 0)
+    def fit(
+        self, z: np.ndarray, delta: np.ndarray | None, fallback: np.ndarray | None
+    ) -> np.ndarray:
+        """Mean line for weights ``delta`` (None: all 1, moments by cumulative sums, no FFT)."""
+        if delta is None:
+            moments = [ones_response(k, self.conv.n) for k in self.kernels]
+            fz = self.conv.transform(z)
+        else:
+            fd = self.conv.transform(delta)
+            fz = self.conv.transform(delta * z)
+            moments = [self._conv(fd, k) for k in range(len(self.kernels))]
+        m0 = moments[0]
         b0 = self._conv(fz, 0)
         # u is scaled by γλc and the kernel sums to 1, so m0 ≤ 1 and, for a full window with
         # δ = 1 (m2 = 1/(2π), m4 = 3/(4π²)), det = 1/(4π³) = 0.008: values below 1e-12 mean
@@ -137,7 +145,7 @@ class _Regression:
                 ok = m0 > tiny
                 w = np.divide(b0, m0, out=b0)
             else:
-                m1, m2, m3, m4 = (self._conv(fd, k) for k in (1, 2, 3, 4))
+                m1, m2, m3, m4 = moments[1:]
                 b1, b2 = self._conv(fz, 1), self._conv(fz, 2)
                 # Cramer's rule with the cofactors of the first column (symmetric matrix)
                 c0 = m2 * m4
@@ -190,7 +198,9 @@ def regression_mean_line(
     dx = positive_length(dx_um, "dx_um")
     lc = positive_length(cutoff_um, "cutoff_um")
     _gamma(order)
-    delta = np.ones_like(z) if weights is None else np.asarray(weights, dtype=np.float64)
+    if weights is None:
+        return _Regression(z.size, dx, lc, order).fit(z, None, None)
+    delta = np.asarray(weights, dtype=np.float64)
     if delta.shape != z.shape:
         raise SpeccheckError(f"weights must have the shape of z_um {z.shape}, got {delta.shape}")
     if not np.all(np.isfinite(delta) & (delta >= 0.0)):
@@ -238,7 +248,7 @@ def robust_mean_line(
         raise SpeccheckError(f"max_iterations must be ≥ 1, got {max_iterations!r}")
     reg = _Regression(z.size, dx, lc, order)
     delta = np.ones_like(z)
-    w = reg.fit(z, delta, None)
+    w = reg.fit(z, None, None)  # first pass: δ = 1
     scale = float(np.max(np.abs(z)))
     change = math.inf
     for it in range(2, int(max_iterations) + 1):

@@ -155,8 +155,7 @@ def values_svg(
         ax.set_xlim(-0.6, len(serials) - 0.4)
         ax.set_ylabel(label)
         ax.set_title(
-            f"{label}: values per sampled part "
-            "(○ conforming, × nonconforming, ▲ undecided)"
+            f"{label}: values per sampled part (○ conforming, × nonconforming, ▲ undecided)"
         )
         fig.tight_layout(pad=0.4)
         return _svg(fig)

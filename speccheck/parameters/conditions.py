@@ -32,6 +32,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from numbers import Integral, Real
 from typing import Literal
 
 from speccheck.errors import SpeccheckError
@@ -303,10 +304,11 @@ class Conditions:
         def positive(name: str, v: float | None, optional: bool) -> None:
             if v is None and optional:
                 return
-            if isinstance(v, bool) or not isinstance(v, (int, float)) or not (0 < v < float("inf")):
+            if isinstance(v, bool) or not isinstance(v, Real) or not (0 < v < float("inf")):
                 raise SpeccheckError(
                     f"{name} must be a positive number, got {v!r}", where=f"key {name}"
                 )
+            object.__setattr__(self, name, float(v))  # numpy scalars become plain floats
 
         positive("lambda_c_mm", self.lambda_c_mm, False)
         positive("lambda_s_um", self.lambda_s_um, True)
@@ -325,12 +327,13 @@ class Conditions:
             )
         if (
             isinstance(self.sections, bool)
-            or not isinstance(self.sections, int)
+            or not isinstance(self.sections, Integral)
             or self.sections < 1
         ):
             raise SpeccheckError(
                 f"sections must be a whole number ≥ 1, got {self.sections!r}", where="key sections"
             )
+        object.__setattr__(self, "sections", int(self.sections))
         for name, value, known in (
             ("filter", self.filter, FILTERS),
             ("form", self.form, FORMS),
@@ -426,7 +429,7 @@ class SelectionStep:
 class CutoffSelection:
     """Result of :func:`select_lambda_c`."""
 
-    lambda_c_mm: float  # the cut-off to use (the last one measured with)
+    lambda_c_mm: float  # the cut-off to use (settled: the last one; oscillating: the shorter)
     settled: bool  # True when the last value measured lies in the row of the λc used
     steps: tuple[SelectionStep, ...]
     message: str

@@ -19,7 +19,7 @@ __all__ = ["RkConstruction", "profile_svg", "material_ratio_svg", "histogram_svg
 _CM = 1 / 2.54
 _COLUMNS = 500  # min/max pairs kept per trace: 0.34 mm per column on a 17 cm wide plot
 
-_RC = {
+_RC: dict[str, Any] = {
     "font.family": "DejaVu Sans",
     "font.size": 7.5,
     "axes.linewidth": 0.6,
@@ -134,7 +134,7 @@ def profile_svg(
     m = np.asarray(profiles.mean_line_um, dtype=np.float64)
     r = np.asarray(profiles.roughness_um, dtype=np.float64)
     bounds = [float(b) for b in profiles.section_bounds_mm]
-    with matplotlib.rc_context(_RC):
+    with matplotlib.rc_context(_RC):  # type: ignore[arg-type]
         fig = _figure(width_cm, height_cm)
         ax1, ax2 = fig.subplots(2, 1, sharex=True)
         xs, ps = _decimate(x, p)
@@ -229,7 +229,7 @@ def material_ratio_svg(
     import numpy as np
 
     mr, z = _material_ratio_curve(roughness_um)
-    with matplotlib.rc_context(_RC):
+    with matplotlib.rc_context(_RC):  # type: ignore[arg-type]
         fig = _figure(width_cm, height_cm)
         ax = fig.subplots()
         ms, zs = _decimate(mr, z, 300)
@@ -291,7 +291,7 @@ def histogram_svg(
 
     z = np.asarray(roughness_um, dtype=np.float64)
     z = z[np.isfinite(z)]
-    with matplotlib.rc_context(_RC):
+    with matplotlib.rc_context(_RC):  # type: ignore[arg-type]
         fig = _figure(width_cm, height_cm)
         ax = fig.subplots()
         if z.size:

@@ -10,6 +10,7 @@ import datetime as _dt
 import os
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from speccheck._atomic import atomic_write_bytes
 from speccheck.errors import ReportError
@@ -264,7 +265,7 @@ class SigningKey:
     """A key opened once: its identity for the face of the record and the signer for pyHanko."""
 
     identity: SignerIdentity
-    signer: object  # pyhanko.sign.signers.SimpleSigner
+    signer: Any  # pyhanko.sign.signers.SimpleSigner
 
 
 def open_key(p12_path: Path, passphrase: bytes | None) -> SigningKey:

@@ -53,6 +53,12 @@ _STATUS_WORDS = {
     "dropouts": "not evaluated: too many missing points",
 }
 
+SHORT_CAUTION = (
+    "The governing drawing, the contract and the applicable standards take precedence over this "
+    "record; it assists, and does not replace, the judgement of qualified inspectors. "
+    "See the cautions at the end."
+)
+
 CAUTIONS = (
     "This record is only as good as the measurement behind it: the instrument must be "
     "calibrated, traceable to national standards and used within its stated uncertainty.",
@@ -87,6 +93,10 @@ class PlotView:
     caption: str
     wide: bool = True
 
+    @property
+    def css_class(self) -> str:
+        return "wide" if self.wide else "half"
+
 
 @dataclass(frozen=True)
 class ValueRow:
@@ -107,6 +117,7 @@ class RequirementView:
     limits: str
     rule: str
     decision_rule: str
+    decision_short: str  # "guarded acceptance, U 0.03 µm" for the summary table
     uncertainty: str
     conditions: str
     sources: str
@@ -155,21 +166,27 @@ class SignatureView:
     note: str  # demo-key warning or how to verify
     summary: str = ""  # one line for page 1: "name (org), role, date"
 
+    @property
+    def css_class(self) -> str:
+        return "signed" if self.signed else "unsigned"
+
 
 @dataclass(frozen=True)
 class ReportView:
     title: str
     part_line: str
-    identity: list[tuple[str, str]]
+    identity: list[tuple[str, str, str]]  # (label, value, CSS class)
     verdict_word: str
     verdict_class: str
     verdict_sentence: str
     verdict_reason: str
+    next_steps: list[str]  # "Requirement 2 (Rz 6.3): measure ..." for every undecided requirement
     signature: SignatureView
     requirements: list[RequirementView]
     measurements: list[MeasurementView]
     features: list[FeatureRow]
     cautions: Sequence[str]
+    short_caution: str
     attachments: list[tuple[str, str]]  # (file name, what it is)
     footer: str
     created: str
@@ -294,8 +311,14 @@ def build_view(
     plots = plots or {}
     plot_notes = plot_notes or {}
     spec = result.spec or {}
-    part = spec.get("part") if isinstance(spec.get("part"), Mapping) else {}
-    number = part.get("number") or spec.get("part_number") or spec.get("number") or "—"
+    part_raw = spec.get("part")
+    part: Mapping[str, Any] = part_raw if isinstance(part_raw, Mapping) else {}
+    number = (
+        part.get("number")
+        or spec.get("part_number")
+        or (part_raw if isinstance(part_raw, str) else None)
+        or "—"
+    )
     revision = part.get("revision") or spec.get("revision")
     surface = part.get("surface") or spec.get("surface")
     part_line = f"Part {number}" + (f" rev. {revision}" if revision else "")
@@ -310,7 +333,7 @@ def build_view(
         ("Drawing", "drawing"),
         ("Supplier", "supplier"),
     ):
-        v = part.get(key) or spec.get(key)
+        v = part.get(key) or spec.get(key) or spec.get(f"part_{key}")
         if v:
             identity.append((label, str(v)))
     identity.append(("Specification file", _file_name(spec.get("path"))))
@@ -323,6 +346,7 @@ def build_view(
     software = f"{sw.get('name', 'speccheck')} {sw.get('version', '')}".strip()
     identity.append(("Evaluated with", software))
     identity.append(("Evaluated at (UTC)", result.created))
+    identity_rows = [(k, v, "hash" if "SHA-256" in k else "") for k, v in identity]
 
     files = {m.index: _file_name(m.path) for m in result.measurements}
 
@@ -361,6 +385,8 @@ def build_view(
                 limits=_limits_text(req.upper, req.lower, req.unit),
                 rule=_RULE_WORDS.get(req.rule, req.rule),
                 decision_rule=_DECISION_WORDS.get(req.decision_rule, req.decision_rule),
+                decision_short=req.decision_rule.replace("-", " ")
+                + (f", U {plain_number(req.uncertainty, req.unit)}" if req.uncertainty else ""),
                 uncertainty=unc,
                 conditions=_conditions_text(req.conditions or {}),
                 sources=_sources_text(req.conditions or {}),
@@ -373,7 +399,7 @@ def build_view(
             )
         )
 
-    measurements = []
+    measurements: list[MeasurementView] = []
     for m in result.measurements:
         kv = []
         for name in ("Ra", "Rz", "Rsk", "Rk", "Rpk", "Rvk"):
@@ -444,16 +470,22 @@ def build_view(
     return ReportView(
         title="Surface finish conformance record",
         part_line=part_line,
-        identity=identity,
+        identity=identity_rows,
         verdict_word=VERDICT_WORDS.get(verdict, verdict.upper()),
         verdict_class=f"v-{verdict}",
         verdict_sentence=_VERDICT_SENTENCES.get(verdict, ""),
         verdict_reason=result.reason or "",
+        next_steps=[
+            f"Requirement {r.number} ({r.callout}): {r.next_step}"
+            for r in requirements
+            if r.verdict_class != "v-conforming" and r.next_step != "none: decided"
+        ],
         signature=signature,
         requirements=requirements,
         measurements=measurements,
         features=features,
         cautions=CAUTIONS,
+        short_caution=SHORT_CAUTION,
         attachments=list(attachments),
         footer=f"{part_line} — {VERDICT_WORDS.get(verdict, verdict)} — {signature.status}",
         created=result.created,

@@ -177,11 +177,11 @@ def _profile_name(filter_name: str) -> str:
 
 def _rk_construction(roughness_um: Any) -> Any:
     """The ISO 13565-2 core line of a profile, or None when no core is found."""
-    from speccheck.parameters.rk import rk_parameters
+    from speccheck.parameters.rk import RkParameters, rk_parameters
     from speccheck.report.plots import RkConstruction
 
     rk = rk_parameters(roughness_um)
-    if not rk:
+    if not isinstance(rk, RkParameters):
         return None
     return RkConstruction(rk.Rk, rk.Rpk, rk.Rvk, rk.Mr1, rk.Mr2, core_top_um=rk.core_top_um)
 
