@@ -15,10 +15,15 @@ from typing import Any
 import click
 
 from speccheck.cli.options import (
+    db_option,
     decimal_option,
     dx_option,
     format_option,
     json_out_option,
+    passphrase_file_option,
+    record_flag,
+    report_option,
+    sign_option,
     write_json,
 )
 from speccheck.errors import ExitStatus, SpeccheckError
@@ -123,29 +128,11 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
 @format_option
 @dx_option
 @decimal_option
-@click.option(
-    "--report",
-    "report_out",
-    metavar="OUT.pdf",
-    default=None,
-    help="Write the conformance record as PDF.",
-)
-@click.option(
-    "--sign", "sign_p12", metavar="KEY.p12", default=None, help="Sign the record with this key."
-)
-@click.option(
-    "--passphrase-file",
-    metavar="FILE",
-    default=None,
-    help="File whose first line is the key's passphrase (else $SPECCHECK_PASSPHRASE).",
-)
-@click.option("--record", "record", is_flag=True, help="Append the result to the records store.")
-@click.option(
-    "--db",
-    metavar="PATH",
-    default=None,
-    help="Records store (default $SPECCHECK_DB or ./speccheck-records.sqlite).",
-)
+@report_option
+@sign_option
+@passphrase_file_option
+@record_flag
+@db_option
 def command(
     spec: str,
     profiles: tuple[str, ...],

@@ -6,16 +6,17 @@ import sys
 
 import click
 
-from speccheck.cli.options import json_out_option, write_json
-
-__all__ = ["command", "db_option"]
-
-db_option = click.option(
-    "--db",
-    default=None,
-    metavar="PATH",
-    help="Records store (default: $SPECCHECK_DB, else speccheck-records.sqlite here).",
+from speccheck.cli.options import (
+    db_option,
+    json_out_option,
+    passphrase_file_option,
+    record_flag,
+    report_option,
+    sign_option,
+    write_json,
 )
+
+__all__ = ["command"]
 
 
 def _progress_callback():
@@ -50,20 +51,11 @@ def _progress_callback():
     type=click.Path(file_okay=False),
     help="Folder of the profiles.",
 )
-@click.option(
-    "--report", "report_out", default=None, metavar="OUT.pdf", help="Write the lot report (PDF)."
-)
-@click.option(
-    "--sign", "sign_p12", default=None, metavar="KEY.p12", help="Sign the report with this key."
-)
-@click.option(
-    "--passphrase-file",
-    default=None,
-    metavar="FILE",
-    help="First line: the key's passphrase (else $SPECCHECK_PASSPHRASE).",
-)
+@report_option
+@sign_option
+@passphrase_file_option
 @json_out_option("Write the lot result as JSON to FILE ('-' for standard output).")
-@click.option("--record", is_flag=True, help="Append the lot result to the records store.")
+@record_flag
 @db_option
 @click.option(
     "--workers",

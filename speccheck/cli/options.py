@@ -52,3 +52,26 @@ def write_json(obj: Any, dest: str) -> None:
     from speccheck._atomic import atomic_write_text
 
     atomic_write_text(Path(dest), text)
+
+
+report_option = click.option(
+    "--report", "report_out", metavar="OUT.pdf", default=None, help="Write the record as PDF."
+)
+sign_option = click.option(
+    "--sign", "sign_p12", metavar="KEY.p12", default=None, help="Sign the PDF with this key."
+)
+passphrase_file_option = click.option(
+    "--passphrase-file",
+    metavar="FILE",
+    default=None,
+    help="File whose first line is the key's passphrase (else $SPECCHECK_PASSPHRASE).",
+)
+record_flag = click.option(
+    "--record", "record", is_flag=True, help="Append the result to the records store."
+)
+db_option = click.option(
+    "--db",
+    default=None,
+    metavar="PATH",
+    help="Records store (default: $SPECCHECK_DB, else speccheck-records.sqlite here).",
+)

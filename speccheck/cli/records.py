@@ -11,7 +11,7 @@ import json
 
 import click
 
-from speccheck.cli.lot import db_option
+from speccheck.cli.options import db_option
 
 __all__ = ["command"]
 
