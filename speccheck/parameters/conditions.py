@@ -39,6 +39,7 @@ from speccheck.errors import SpeccheckError
 
 __all__ = [
     "Conditions",
+    "STANDARD_CUTOFFS_MM",
     "FILTERS",
     "FORMS",
     "PROFILE_KINDS",
@@ -132,6 +133,8 @@ def _rows(table: str, column: str, bounds_um: list[float | None], lambdas_mm: li
 
 
 _LC = [0.08, 0.25, 0.8, 2.5, 8.0]
+# The standard series of cut-offs λc in mm (ISO 4288:1996 Tables 1-3; ISO 3274:1996 Table 1).
+STANDARD_CUTOFFS_MM: tuple[float, ...] = tuple(_LC)
 # ISO 4288:1996 Table 1 (Ra), Table 2 (Rz, Rz1max), Table 3 (RSm, converted mm -> µm).
 # Domain notes: the first two rows and the Ra / RSm columns [pub], the rest [mem].
 # The first row's lower bound is printed in parentheses in the standard; values at or below it

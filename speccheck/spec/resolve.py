@@ -51,16 +51,12 @@ def _conditions():
 
 def standard_cutoffs_mm() -> tuple[float, ...]:
     """The standard λc series in mm (ISO 4288:1996 Tables 1-3; ISO 3274:1996 Table 1)."""
-    c = _conditions()
-    series = getattr(c, "STANDARD_CUTOFFS_MM", None)
-    return tuple(series) if series else (0.08, 0.25, 0.8, 2.5, 8.0)
+    return _conditions().STANDARD_CUTOFFS_MM
 
 
 def iso3274_lambda_s_um(lambda_c_mm: float) -> float:
     """λs for a standard λc (ISO 3274:1996 Table 1); SpeccheckError if λc is not standard."""
-    c = _conditions()
-    fn = getattr(c, "lambda_s_um_for", None) or c.default_lambda_s_um
-    return float(fn(lambda_c_mm))
+    return float(_conditions().default_lambda_s_um(lambda_c_mm))
 
 
 _TABLE_NAMES = {
