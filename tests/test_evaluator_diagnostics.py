@@ -82,3 +82,32 @@ def test_policy_undecided_turns_the_flagged_requirement_undecided(tmp_path):
 def test_policy_undecided_leaves_a_clean_profile_decided(tmp_path):
     result = evaluate(spec(tmp_path, "undecided"), [turned(scratch=False)])
     assert result.requirements[0].verdict == "conforming"
+
+
+def test_diagnostics_in_the_plain_check_output_and_params_json(tmp_path, capsys):
+    import json
+
+    from speccheck.cli.main import main
+    from speccheck.readers import write_csv
+
+    profile = tmp_path / "scratched.csv"
+    write_csv(profile, turned(scratch=True))
+    spec_path = tmp_path / "spec.yaml"
+    spec_path.write_text(
+        "spec_version: 1\n"
+        "part: {number: KFP-1187, revision: A, surface: sealing face}\n"
+        "measurement: {cutoff: 0.8mm, ls: none}\n"
+        "requirements:\n"
+        "  - {parameter: Rsk, lower: 0, rule: max}\n",
+        encoding="utf-8",
+    )
+    assert main(["check", str(spec_path), str(profile)]) == 1
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Warning (profile 1): Rsk rests on a few points" in out
+    assert "x = 2.850 mm" in out
+
+    assert main(["params", str(profile), "--cutoff", "0.8mm", "--ls", "none", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    [diag] = data["diagnostics"]
+    assert "Rsk" in diag["parameters"]
+    assert diag["features"][0]["x_mm"] == pytest.approx(2.85, abs=4 * DX_UM / 1e3)

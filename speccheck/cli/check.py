@@ -110,6 +110,11 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
     console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
     for i, req in enumerate(result.requirements, start=1):
         console.print(f"#{i} {req.verdict}: {req.explanation}")
+        for diag in req.diagnostics:
+            console.print(
+                f"   {diag['severity'].capitalize()} (profile {diag['measurement'] + 1}): "
+                f"{diag['message']}"
+            )
         if req.next:
             console.print(f"   Next: {req.next}.")
     for m in result.measurements:

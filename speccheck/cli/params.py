@@ -193,7 +193,10 @@ def command(
         raise SpeccheckError(str(exc), where="option --param") from None
     if isinstance(result, InsufficientData):
         return _insufficient(file, result, as_json)
+    from speccheck.diagnostics import diagnose
+
     out = result.to_dict()
+    out["diagnostics"] = [d.to_dict() for d in diagnose(result)]
     out["cutoff_choice"] = choice
     src = profile.source
     out["source"] = {"path": src.path, "sha256": src.sha256, "format": src.format}
@@ -261,3 +264,5 @@ def _print_table(out: dict[str, Any]) -> None:
     console.print(table)
     for note in out["notes"]:
         console.print(f"note: {note}")
+    for diag in out.get("diagnostics", []):
+        console.print(f"{diag['severity']}: {diag['message']}")
