@@ -424,6 +424,7 @@ def test_advice_for_rsk_alone_names_alternatives():
         (["Ra", "Rsk"], 1),  # Ra controls height, not the peak/valley balance
         (["Rsk", "Rpk", "Rvk"], 0),
         (["Rt"], 1),
+        (["Ra", "Rt"], 1),  # an average does not control the single extreme
         (["Rmax", "Rz"], 0),
         (["Rz1max", "Rku"], 2),
         (["Rsk", "Rt", "Rk"], 0),

@@ -40,7 +40,8 @@ _BALANCE_STABLE = (
 )
 #: Single-point-sensitive bases that express an extreme height, and their stable counterparts.
 EXTREME_BASES = ("t", "max", "z1max")
-_EXTREME_STABLE = ("z", "p", "v", "pm", "vm", "k", "pk", "vk", "a", "q", "c")
+# Averages (Ra, Rq) do not control the extremes; section means and the Rk family do.
+_EXTREME_STABLE = ("z", "p", "v", "pm", "vm", "k", "pk", "vk", "c")
 
 
 def _rk(letter: str, members: str) -> str:

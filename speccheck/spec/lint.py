@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
 
+from speccheck.diagnostics import sensitive_parameter_advice
 from speccheck.errors import SpeccheckError, SpecError
 from speccheck.parameters.names import parse_parameter_name
 from speccheck.spec._yaml import Document, KeyPath
@@ -22,22 +23,6 @@ from speccheck.spec.requirement import Requirement
 from speccheck.spec.resolve import iso3274_lambda_s_um, standard_cutoffs_mm
 
 __all__ = ["Finding", "lint_file", "lint_paths"]
-
-# Stable parameters that control the same property as a single-point-sensitive one.
-_HEIGHT_SHAPE = {"Rpk", "Rk", "Rvk", "Mr1", "Mr2", "Rpq", "Rvq", "Rmq", "Rp", "Rv", "Rpm", "Rvm"}
-_EXTREMES = {"Rz", "Rp", "Rv", "Rpm", "Rvm", "Rpk", "Rk", "Rvk"}
-_SENSITIVE_WHY = {
-    "sk": ("one scratch or spike can flip its sign, heights enter cubed", _HEIGHT_SHAPE),
-    "ku": ("one scratch or spike dominates it, heights enter to the fourth power", _HEIGHT_SHAPE),
-    "t": (
-        "it is set by the single highest peak and deepest valley of the evaluation length",
-        _EXTREMES,
-    ),
-    "max": ("it is set by the single worst section", _EXTREMES),
-    "z1max": ("it is set by the single worst section", _EXTREMES),
-}
-_ALTERNATIVES = "section-averaged Rp/Rv, ASME Rpm/Rvm or the Rk family (Rpk, Rk, Rvk)"
-
 
 @dataclass(frozen=True)
 class Finding:
@@ -142,19 +127,6 @@ def lint_file(path: str | Path) -> list[Finding]:
                     f"Table 1 pair (λs {expected:g} µm); results differ from a standard "
                     "measurement",
                 )
-        parsed = parse_parameter_name(req.parameter)
-        base = parsed.base if parsed is not None else ""
-        if base in _SENSITIVE_WHY:
-            why, stable = _SENSITIVE_WHY[base]
-            if not (names & stable):
-                r_line, r_col = _req_position(req)
-                add(
-                    r_line,
-                    r_col,
-                    "warning",
-                    f"{req.parameter} rests on a few points ({why}) and nothing else in the spec "
-                    f"controls this property; consider {_ALTERNATIVES}",
-                )
         if req.decision_rule != "simple" and req.uncertainty is None:
             r_line, r_col = _req_position(req)
             add(
@@ -175,6 +147,17 @@ def lint_file(path: str | Path) -> list[Finding]:
                     "warning",
                     f"uncertainty for {parsed.name} but no requirement on {parsed.name}",
                 )
+    # A function controlled only through parameters that rest on a few points: the advice of
+    # speccheck.diagnostics, placed at the first requirement it names.
+    sensitive = [
+        r
+        for r in spec.requirements
+        if (pn := parse_parameter_name(r.parameter)) is not None and pn.info.single_point_sensitive
+    ]
+    for text in sensitive_parameter_advice([r.parameter for r in spec.requirements]):
+        at = next((r for r in sensitive if r.parameter in text), sensitive[0])
+        a_line, a_col = _req_position(at)
+        add(a_line, a_col, "warning", text)
     order = {"error": 0, "warning": 1}
     findings.sort(key=lambda f: (f.line or 0, f.col or 0, order[f.severity]))
     return findings
