@@ -105,7 +105,8 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
         if req.uncertainty is not None:
             rule += f", {req.decision_rule}, U {_num(req.uncertainty)}{unit}"
         verdict = Text(req.verdict.upper(), style=_STYLE[req.verdict])
-        table.add_row(str(i), req.text, f"{_values_text(req)}{unit}", rule, verdict)
+        values = _values_text(req) + (unit if any(v.value is not None for v in req.values) else "")
+        table.add_row(str(i), req.text, values, rule, verdict)
     console.print(table)
     console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
     for i, req in enumerate(result.requirements, start=1):
