@@ -81,7 +81,7 @@ def test_undecided_exit_3_with_next_step(tmp_path, spec_file, capsys):
     assert "Result: UNDECIDED" in out
     flat = " ".join(out.split())
     expected = "measure 2 more profiles where the highest values are expected (ISO 4288)."
-    assert f"#1 undecided: " in flat and f"Next: {expected}" in flat
+    assert "#1 undecided: " in flat and f"Next: {expected}" in flat
 
 
 def test_json_to_file_matches_library_result(tmp_path, spec_file, capsys):

@@ -341,3 +341,85 @@ def test_plots_are_svg_with_labels():
     assert "core line, Rk 1.2 µm" in mr and "Rpk 0.3 µm, Mr1 8 %" in mr
     hist = _svg_texts(P.histogram_svg(z, rsk=-0.25))
     assert "Rsk = -0.25" in hist
+
+
+def _drawn(svg: bytes) -> list[tuple]:
+    """Every drawn leaf in document order with the properties in force on it.
+
+    Properties come from the root's attributes, the ``*{...}`` rule, each ancestor's and the
+    element's own presentation attributes and ``style`` declarations, in that order (SVG 1.1
+    6.4: a ``style`` declaration and the presentation attribute of the same name are
+    equivalent; inherited properties pass from a group to its children; a ``*`` rule applies
+    to every element and yields to the element's own declarations).
+    """
+    root = ET.fromstring(svg)
+    ns = "{http://www.w3.org/2000/svg}"
+    star: dict[str, str] = {}
+    for st in root.iter(f"{ns}style"):
+        rule = (st.text or "").strip()
+        if rule.startswith("*{"):
+            star = P._declarations(rule[2:-1])
+
+    def props(el, inherited):
+        # a "*" rule reaches every element directly; its own attributes and style beat it
+        own = {k: v for k, v in el.attrib.items() if k not in ("style", "id")}
+        return {**inherited, **star, **own, **P._declarations(el.get("style", ""))}
+
+    out: list[tuple] = []
+
+    def walk(el, inherited):
+        for ch in el:
+            if ch.tag in (f"{ns}defs", f"{ns}metadata", f"{ns}clipPath", f"{ns}pattern"):
+                continue
+            p = props(ch, inherited)
+            if ch.tag == f"{ns}g":
+                walk(ch, p)
+            else:
+                out.append((ch.tag, (ch.text or "").strip(), tuple(sorted(p.items()))))
+
+    base = {k: v for k, v in root.attrib.items() if k.startswith("stroke")}
+    walk(root, base)
+    return out
+
+
+def test_compacted_svg_draws_the_same(monkeypatch):
+    """Fewer nodes, same drawing: every path, marker and text keeps its place and style."""
+    x = np.arange(8000) * 0.0005
+    z = np.sin(2 * np.pi * x / 0.05)
+    ev = SimpleNamespace(
+        x_mm=x,
+        primary_um=z + x,
+        mean_line_um=x,
+        roughness_um=z,
+        section_bounds_mm=(0.0, 0.8, 1.6, 2.4, 3.2, 4.0),
+    )
+    makers = [
+        lambda: P.profile_svg(ev, features=[{"x_mm": 2.0}]),
+        lambda: P.material_ratio_svg(z, rk=P.RkConstruction(1.2, 0.3, 0.4, 8.0, 90.0)),
+        lambda: P.histogram_svg(z, rsk=-0.25),
+    ]
+    for make in makers:
+        compact = make()
+        monkeypatch.setattr(P, "_compact_svg", lambda svg: svg)
+        raw = make()
+        monkeypatch.undo()
+        assert compact.count(b"<") < raw.count(b"<")
+        assert b"style=" not in compact and b"<metadata" not in compact
+        root = ET.fromstring(compact)
+        bare = [g for g in root.iter("{http://www.w3.org/2000/svg}g") if set(g.attrib) <= {"id"}]
+        assert bare == []
+        assert _drawn(compact) == _drawn(raw)
+
+
+def test_render_pdf_attaches_files_exactly(tmp_path):
+    """Attachments written with the page content read back byte for byte (pypdf as reader)."""
+    from speccheck.report.pdf import EmbeddedFile, render_pdf
+
+    data = bytes(range(256)) * 40
+    pdf = render_pdf(
+        "<p>x</p>",
+        attachments=[EmbeddedFile("trace 1.csv", data), EmbeddedFile("r.json", b"{}\n")],
+    )
+    assert read_embedded_files(pdf) == {"trace 1.csv": data, "r.json": b"{}\n"}
+    with pytest.raises(ReportError, match="not unique"):
+        render_pdf("<p>x</p>", attachments=[EmbeddedFile("a", b"1"), EmbeddedFile("a", b"2")])

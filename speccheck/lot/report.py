@@ -18,6 +18,7 @@ from typing import Any
 from speccheck._atomic import atomic_write_bytes
 from speccheck.lot.result import LotResult
 from speccheck.lot.sampling import SamplingPlan, fraction_at_probability, oc_curve
+from speccheck.report.plots import PLOT_STYLE
 
 __all__ = [
     "OC_READING_FRACTIONS",
@@ -32,22 +33,7 @@ __all__ = [
 # AQL-style percentages, common practice, no source).
 OC_READING_FRACTIONS = (0.005, 0.01, 0.025, 0.04, 0.065, 0.10, 0.15, 0.25)
 
-_RC: Any = {  # matplotlib rc settings
-    "font.family": "DejaVu Sans",
-    "font.size": 7.5,
-    "axes.linewidth": 0.6,
-    "axes.titlesize": 8,
-    "axes.titleweight": "bold",
-    "axes.titlelocation": "left",
-    "xtick.labelsize": 7,
-    "ytick.labelsize": 7,
-    "legend.fontsize": 6.5,
-    "svg.fonttype": "path",
-    "svg.hashsalt": "speccheck-lot",
-    "axes.grid": True,
-    "grid.color": "0.85",
-    "grid.linewidth": 0.4,
-}
+_RC: Any = {**PLOT_STYLE, "svg.hashsalt": "speccheck-lot"}  # the records' plot style
 _CM = 1 / 2.54
 
 

@@ -19,8 +19,14 @@ class EmbeddedFile:
     description: str = ""
 
 
-def render_pdf(html: str, *, base_url: str | None = None) -> bytes:
+def render_pdf(
+    html: str, *, base_url: str | None = None, attachments: Sequence[EmbeddedFile] = ()
+) -> bytes:
     """Render an HTML document (with its CSS inline or linked from ``base_url``) to PDF bytes.
+
+    ``attachments`` are embedded while the PDF is written (PDF 32000-1 7.11.4, the same name
+    tree :func:`embed_files` fills), which spares reading and writing the whole PDF again.
+    Names must be unique; the bytes are stored exactly as given.
 
     Notes
     -----
@@ -28,6 +34,7 @@ def render_pdf(html: str, *, base_url: str | None = None) -> bytes:
     """
     import logging
     import warnings
+    from io import BytesIO
 
     with warnings.catch_warnings():
         # weasyprint warns at import when the optional HarfBuzz-Subset library is missing
@@ -39,8 +46,12 @@ def render_pdf(html: str, *, base_url: str | None = None) -> bytes:
     # weasyprint reports unsupported CSS through logging; keep it off the user's terminal
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     logging.getLogger("fontTools").setLevel(logging.ERROR)
+    names = [f.name for f in attachments]
+    if len(set(names)) != len(names):
+        raise ReportError(f"attachment names are not unique: {names}")
+    files = [weasyprint.Attachment(file_obj=BytesIO(f.data), name=f.name) for f in attachments]
     try:
-        pdf = weasyprint.HTML(string=html, base_url=base_url).write_pdf()
+        pdf = weasyprint.HTML(string=html, base_url=base_url).write_pdf(attachments=files)
     except Exception as exc:  # a template or rendering fault is not the user's input
         raise ReportError(f"cannot render the report: {type(exc).__name__}: {exc}") from exc
     if not pdf:

@@ -1,9 +1,14 @@
 """Vector (SVG) plots for the conformance record: profiles, material ratio curve, histogram.
 
 Plots are drawn with matplotlib's object API (no pyplot state), black and grey only, with
-line styles and markers that stay distinct when printed in greyscale. Text is stored as paths,
-so the PDF needs no extra fonts. Long traces are reduced to the minimum and maximum of each
-horizontal pixel column before drawing: no peak or valley is lost, the file stays small.
+line styles and markers that stay distinct when printed in greyscale. Text stays text (set in
+DejaVu Sans, the font the record already embeds). Long traces are reduced to the minimum and
+maximum of each horizontal pixel column before drawing: no peak or valley is lost, the file
+stays small.
+
+The PDF renderer pays for every SVG node and every character of SVG text it draws, so the
+plots keep ticks few, place titles and axis labels at fixed spots (matplotlib need not measure
+tick labels to find them) and drop matplotlib's empty wrapper groups (:func:`_compact_svg`).
 """
 
 from __future__ import annotations
@@ -14,18 +19,28 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
-__all__ = ["RkConstruction", "profile_svg", "material_ratio_svg", "histogram_svg", "svg_data_uri"]
+__all__ = [
+    "PLOT_STYLE",
+    "RkConstruction",
+    "profile_svg",
+    "material_ratio_svg",
+    "histogram_svg",
+    "svg_data_uri",
+]
 
 _CM = 1 / 2.54
 _COLUMNS = 500  # min/max pairs kept per trace: 0.34 mm per column on a 17 cm wide plot
 
-_RC: dict[str, Any] = {
+# matplotlib rc settings of every plot in speccheck's records (the lot report uses them too)
+PLOT_STYLE: dict[str, Any] = {
     "font.family": "DejaVu Sans",
     "font.size": 7.5,
     "axes.linewidth": 0.6,
     "axes.titlesize": 8,
     "axes.titleweight": "bold",
     "axes.titlelocation": "left",
+    "axes.titley": 1.0,  # fixed title place: no search for overlapping tick labels
+    "axes.titlepad": 3.0,
     "axes.labelsize": 7.5,
     "xtick.labelsize": 7,
     "ytick.labelsize": 7,
@@ -98,10 +113,90 @@ def _figure(width_cm: float, height_cm: float):
     return Figure(figsize=(width_cm * _CM, height_cm * _CM))
 
 
+def _place_labels(fig, *axes, left_cm: float = 0.95, below_cm: float = 0.62) -> None:
+    """Axis labels at a fixed distance from the axes (and so aligned with each other).
+
+    Call after ``subplots_adjust``. A fixed place spares matplotlib measuring every tick label
+    to find one; the distances leave room for tick labels of up to five characters.
+    """
+    width_in, height_in = fig.get_size_inches()
+    for ax in axes:
+        box = ax.get_position()
+        ax.yaxis.set_label_coords(-left_cm * _CM / (box.width * width_in), 0.5)
+        ax.xaxis.set_label_coords(0.5, -below_cm * _CM / (box.height * height_in))
+
+
+def _few_ticks(*axis, nbins: int = 5) -> None:
+    """At most about ``nbins`` labelled ticks per axis: enough to read a value off the grid."""
+    from matplotlib.ticker import MaxNLocator
+
+    for a in axis:
+        a.set_major_locator(MaxNLocator(nbins=nbins))
+
+
+_SVG_NS = "http://www.w3.org/2000/svg"
+
+
+def _declarations(css: str) -> dict[str, str]:
+    """``"fill: none; stroke: #000"`` -> ``{"fill": "none", "stroke": "#000"}``."""
+    out = {}
+    for part in css.split(";"):
+        name, sep, value = part.partition(":")
+        if sep and name.strip():
+            out[name.strip()] = value.strip()
+    return out
+
+
+def _compact_svg(svg: bytes) -> bytes:
+    """The same drawing with fewer nodes: the record's renderer pays for every node it visits.
+
+    matplotlib wraps each artist (each tick, each label) in a ``<g id=...>`` that carries no
+    style; those groups are replaced by their children, and the RDF metadata block is dropped.
+    Groups that carry a style, transform or clip path are kept. ``style`` declarations become
+    the equivalent presentation attributes (SVG 1.1 6.4), so no CSS is parsed per node.
+    """
+    import xml.etree.ElementTree as ET
+
+    ET.register_namespace("", _SVG_NS)
+    ET.register_namespace("xlink", "http://www.w3.org/1999/xlink")
+    root = ET.fromstring(svg)
+    group = f"{{{_SVG_NS}}}g"
+
+    def flatten(el: Any) -> None:
+        children = []
+        for ch in list(el):
+            flatten(ch)
+            if ch.tag == group and set(ch.attrib) <= {"id"}:
+                children.extend(ch)
+            else:
+                children.append(ch)
+        el[:] = children
+
+    for md in root.findall(f"{{{_SVG_NS}}}metadata"):
+        root.remove(md)
+    # matplotlib's one style rule, "*{stroke-linejoin: round; stroke-linecap: butt}", set once
+    # on the root (both properties are inherited) instead of being matched against every node
+    for defs in root.findall(f"{{{_SVG_NS}}}defs"):
+        for st in defs.findall(f"{{{_SVG_NS}}}style"):
+            rule = (st.text or "").strip()
+            if rule.startswith("*{") and rule.endswith("}") and "{" not in rule[2:]:
+                root.attrib.update(_declarations(rule[2:-1]))
+                defs.remove(st)
+        if not len(defs):
+            root.remove(defs)
+    flatten(root)
+    # style="a: b; c: d" becomes presentation attributes a="b" c="d": same drawing, no CSS parse
+    for el in root.iter():
+        style = el.attrib.pop("style", None)
+        if style is not None:
+            el.attrib.update(_declarations(style))
+    return ET.tostring(root, encoding="utf-8", xml_declaration=True)
+
+
 def _to_svg(fig) -> bytes:
     buf = io.BytesIO()
     fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None})
-    return buf.getvalue()
+    return _compact_svg(buf.getvalue())
 
 
 def profile_svg(
@@ -134,7 +229,7 @@ def profile_svg(
     m = np.asarray(profiles.mean_line_um, dtype=np.float64)
     r = np.asarray(profiles.roughness_um, dtype=np.float64)
     bounds = [float(b) for b in profiles.section_bounds_mm]
-    with matplotlib.rc_context(_RC):  # type: ignore[arg-type]
+    with matplotlib.rc_context(PLOT_STYLE):  # type: ignore[arg-type]
         fig = _figure(width_cm, height_cm)
         ax1, ax2 = fig.subplots(2, 1, sharex=True)
         xs, ps = _decimate(x, p)
@@ -196,8 +291,9 @@ def profile_svg(
         ax2.legend(loc="upper right", ncols=3)
         if x.size:
             ax2.set_xlim(float(x[0]), float(x[-1]))
-        fig.align_ylabels((ax1, ax2))
+        _few_ticks(ax2.xaxis, nbins=6)  # shared with ax1
         fig.subplots_adjust(left=0.075, right=0.99, top=0.94, bottom=0.11, hspace=0.28)
+        _place_labels(fig, ax1, ax2)
         return _to_svg(fig)
 
 
@@ -229,10 +325,10 @@ def material_ratio_svg(
     import numpy as np
 
     mr, z = _material_ratio_curve(roughness_um)
-    with matplotlib.rc_context(_RC):  # type: ignore[arg-type]
+    with matplotlib.rc_context(PLOT_STYLE):  # type: ignore[arg-type]
         fig = _figure(width_cm, height_cm)
         ax = fig.subplots()
-        ms, zs = _decimate(mr, z, 300)
+        ms, zs = _decimate(mr, z, 150)  # a monotone curve: 300 points are plenty
         ax.plot(ms, zs, color="black", label="material ratio curve")
         if rk is not None and z.size:
             top = rk.core_top_um
@@ -275,6 +371,7 @@ def material_ratio_svg(
         ax.set_title("Material ratio curve")
         ax.legend(loc="lower left")
         fig.subplots_adjust(left=0.15, right=0.97, top=0.91, bottom=0.15)
+        _place_labels(fig, ax)
         return _to_svg(fig)
 
 
@@ -291,7 +388,7 @@ def histogram_svg(
 
     z = np.asarray(roughness_um, dtype=np.float64)
     z = z[np.isfinite(z)]
-    with matplotlib.rc_context(_RC):  # type: ignore[arg-type]
+    with matplotlib.rc_context(PLOT_STYLE):  # type: ignore[arg-type]
         fig = _figure(width_cm, height_cm)
         ax = fig.subplots()
         if z.size:
@@ -316,5 +413,7 @@ def histogram_svg(
         ax.set_xlabel("share of points, %")
         ax.set_ylabel("height, µm")
         ax.set_title("Height distribution")
+        _few_ticks(ax.xaxis, ax.yaxis)
         fig.subplots_adjust(left=0.15, right=0.97, top=0.91, bottom=0.15)
+        _place_labels(fig, ax)
         return _to_svg(fig)

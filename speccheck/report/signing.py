@@ -294,6 +294,20 @@ def open_key(p12_path: Path, passphrase: bytes | None) -> SigningKey:
     return SigningKey(identity=_identity(cert), signer=signer)
 
 
+def _signature_space(signer: Any) -> int:
+    """Room for the CMS signature in the /Contents hex string, counted in hex digits.
+
+    Reserving it up front spares pyHanko a trial signature to measure it (the private key
+    would be loaded and used twice). The CMS holds the certificates, the signed attributes
+    and one signature value (at most 1024 bytes: RSA-8192); 4096 bytes cover the fixed part
+    many times over, and the total gets pyHanko's own 50 % margin.
+    """
+    certs = [signer.signing_cert, *(signer.cert_registry or ())]
+    der_bytes = 4096 + sum(len(c.dump()) for c in certs if c is not None)
+    hex_digits = 2 * der_bytes
+    return hex_digits + 2 * (hex_digits // 4)
+
+
 def sign_pdf(
     pdf_bytes: bytes,
     *,
@@ -342,7 +356,9 @@ def sign_pdf(
     )
     try:
         writer = IncrementalPdfFileWriter(BytesIO(pdf_bytes), strict=False)
-        out = signers.sign_pdf(writer, meta, signer=key.signer)
+        out = signers.sign_pdf(
+            writer, meta, signer=key.signer, bytes_reserved=_signature_space(key.signer)
+        )
     except Exception as exc:  # pyHanko raises several types for unreadable input
         raise ReportError(f"cannot sign the document: {exc}") from exc
     return out.getvalue()

@@ -13,7 +13,7 @@ from typing import Any
 from speccheck._atomic import atomic_write_bytes
 from speccheck._version import __version__
 from speccheck.errors import ReportError
-from speccheck.report.pdf import EmbeddedFile, embed_files, render_pdf
+from speccheck.report.pdf import EmbeddedFile, render_pdf
 from speccheck.report.view import PlotView, SignatureView, build_view, features_by_measurement
 
 __all__ = [
@@ -393,7 +393,6 @@ def write_report(
         attachments=attachments_desc,
     )
     html = render_html(view)
-    pdf = render_pdf(html)
 
     result_dict = result.to_dict()
     software = dict(result_dict.get("software") or {})
@@ -431,7 +430,7 @@ def write_report(
     files.append(
         EmbeddedFile(MANIFEST_NAME, json.dumps(manifest, indent=2).encode("utf-8"), "manifest")
     )
-    pdf = embed_files(pdf, files)
+    pdf = render_pdf(html, attachments=files)
 
     if key is not None:
         number = (getattr(spec, "part", None) or {}).get("number", "?")

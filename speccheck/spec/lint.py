@@ -24,6 +24,7 @@ from speccheck.spec.resolve import iso3274_lambda_s_um, standard_cutoffs_mm
 
 __all__ = ["Finding", "lint_file", "lint_paths"]
 
+
 @dataclass(frozen=True)
 class Finding:
     """One lint finding; ``line``/``col`` are None when the whole file is concerned."""
