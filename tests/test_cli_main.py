@@ -44,3 +44,27 @@ def test_python_dash_m_runs():
     )
     assert out.returncode == 0
     assert __version__ in out.stdout
+
+
+@pytest.mark.parametrize("name", sorted(COMMANDS))
+def test_help_names_the_library_function_it_calls(name, capsys):
+    """Each command is a thin wrapper; its help names the function it calls, and that name
+    must resolve (a stale reference fails here)."""
+    import importlib
+    import re
+
+    assert main([name, "--help"]) == 0
+    text = " ".join(capsys.readouterr().out.split())
+    refs = re.findall(r"speccheck(?:\.[A-Za-z_]+)+", text)
+    assert refs, f"'speccheck {name} --help' names no library function"
+    for ref in refs:
+        parts = ref.split(".")
+        for cut in range(len(parts), 0, -1):  # longest importable module prefix
+            try:
+                obj = importlib.import_module(".".join(parts[:cut]))
+                break
+            except ModuleNotFoundError:
+                continue
+        for attr in parts[cut:]:
+            obj = getattr(obj, attr)
+        assert callable(obj) or isinstance(obj, type), ref

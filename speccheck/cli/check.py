@@ -156,7 +156,8 @@ def command(
 
     Profiles are taken in measurement order. Prints one verdict per requirement and overall
     (conforming, nonconforming, undecided) and what to measure next. Exit status: 0 conforming,
-    1 nonconforming, 3 undecided, 2 error. Calls speccheck.evaluation.load_inputs and evaluate.
+    1 nonconforming, 3 undecided, 2 error. Calls
+    speccheck.evaluation.evaluator.load_inputs and evaluate.
     """
     if sign_p12 and not report_out:
         raise SpeccheckError("--sign needs --report OUT.pdf")

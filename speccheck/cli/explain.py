@@ -11,7 +11,10 @@ import click
 @click.command("explain")
 @click.argument("spec", type=click.Path(dir_okay=False))
 def command(spec: str) -> int:
-    """Explain what each requirement of SPEC asks for, and where each setting came from."""
+    """Explain what each requirement of SPEC asks for, and where each setting came from.
+
+    Calls speccheck.spec.explain.explain_spec.
+    """
     from speccheck.spec.explain import explain_spec
     from speccheck.spec.loader import load_spec
 

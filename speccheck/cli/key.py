@@ -16,7 +16,10 @@ PASSPHRASE_HELP = "File whose first line is the passphrase (else env SPECCHECK_P
 
 @click.group("key")
 def command() -> None:
-    """Make signing keys for conformance records (for organisations without a PKI)."""
+    """Make signing keys for conformance records (for organisations without a PKI).
+
+    Calls speccheck.report.signing.new_key.
+    """
 
 
 @command.command("new")

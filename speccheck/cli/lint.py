@@ -14,7 +14,10 @@ from speccheck.errors import ExitStatus
 @click.command("lint")
 @click.argument("specs", nargs=-1, required=True, type=click.Path(dir_okay=False))
 def command(specs: tuple[str, ...]) -> int:
-    """Find mistakes (exit 2) and risky choices (warnings, exit 0) in specification files."""
+    """Find mistakes (exit 2) and risky choices (warnings, exit 0) in specification files.
+
+    Calls speccheck.spec.lint.lint_paths.
+    """
     from speccheck.spec.lint import lint_file
 
     failed = False

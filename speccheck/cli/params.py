@@ -127,7 +127,8 @@ def command(
     """Compute the surface-texture parameters of the profile in FILE.
 
     Without --cutoff, λc follows the ISO 4288 procedure on Ra and the output says so.
-    Exit status 3 when the trace is too short for the conditions.
+    Exit status 3 when the trace is too short for the conditions. Calls
+    speccheck.parameters.compute.compute_parameters.
     """
     from speccheck.parameters.compute import InsufficientData, compute_parameters
     from speccheck.parameters.conditions import Conditions

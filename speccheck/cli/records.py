@@ -27,6 +27,7 @@ def command() -> None:
     """The append-only records store of checks and lots (SQLite, hash-chained).
 
     The store is --db PATH, else $SPECCHECK_DB, else speccheck-records.sqlite here.
+    Calls speccheck.records.store.RecordsStore.
     """
 
 

@@ -12,7 +12,10 @@ import click
 
 @click.command("schema")
 def command() -> int:
-    """Print the JSON Schema (draft 2020-12) of specification files."""
+    """Print the JSON Schema (draft 2020-12) of specification files.
+
+    Calls speccheck.spec.models.spec_json_schema.
+    """
     from speccheck.spec.models import spec_json_schema
 
     click.echo(json.dumps(spec_json_schema(), indent=2, ensure_ascii=False))

@@ -63,7 +63,8 @@ def command(report: Path, trust: tuple[Path, ...], as_json: bool) -> int:
 
     Exit status: 0 verified; 1 not verified (unsigned, changed, untrusted with --trust, or the
     recomputed result differs); 2 not a speccheck record. Without --trust an intact record is
-    verified with the warning that its signer is not vouched for.
+    verified with the warning that its signer is not vouched for. Calls
+    speccheck.report.verify.verify_report.
     """
     from speccheck.report.verify import verify_report
 
