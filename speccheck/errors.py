@@ -7,6 +7,7 @@ the place inside it (``line 12``, ``line 3, col 7``, ``key requirements[0].limit
 
 from __future__ import annotations
 
+import re
 from enum import IntEnum
 
 __all__ = [
@@ -26,6 +27,9 @@ class ExitStatus(IntEnum):
     NONCONFORMING = 1
     ERROR = 2
     UNDECIDED = 3
+
+
+_LINE_COL = re.compile(r"line (?P<line>\d+)(?:, col(?:umn)? (?P<col>\d+))?")
 
 
 class SpeccheckError(Exception):
@@ -48,8 +52,17 @@ class SpeccheckError(Exception):
         self.where = where
 
     def one_line(self) -> str:
-        """``FILE:PLACE: message`` (parts that are unknown are left out), never multi-line."""
-        head = ":".join(p for p in (self.path, self.where) if p)
+        """``FILE:PLACE: message`` (parts that are unknown are left out), never multi-line.
+
+        A place ``line L, col C`` (or ``column C``) is written ``L:C``, and ``line L`` as ``L``,
+        as compilers and ``speccheck lint`` do, so editors can jump to it.
+        """
+        where = self.where
+        if where:
+            m = _LINE_COL.fullmatch(where.strip())
+            if m:
+                where = m["line"] + (f":{m['col']}" if m["col"] else "")
+        head = ":".join(p for p in (self.path, where) if p)
         text = f"{head}: {self.message}" if head else self.message
         return " ".join(text.split())
 

@@ -145,7 +145,7 @@ def test_spec_error_exit_2_and_old_json_intact(tmp_path, capsys):
     status, out, err = run(["check", str(spec), p, "--json", str(out_json)], capsys)
     assert status == 2 and out == ""
     assert err == (
-        f"speccheck: error: {spec}:line 5, col 5: Ra 0.8: decision rule guarded-acceptance "
+        f"speccheck: error: {spec}:5:5: Ra 0.8: decision rule guarded-acceptance "
         "needs the expanded uncertainty U of Ra (add it under 'uncertainty')\n"
     )
     assert out_json.read_text(encoding="utf-8") == "old"  # nothing half-written, old file kept

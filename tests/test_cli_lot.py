@@ -75,7 +75,7 @@ def test_bad_plan_one_line_exit_2(run_cli, tmp_path: Path):
     plan.write_text("plan_version: 2\n", encoding="utf-8")
     status, out, err = run_cli("lot", plan, "--data", tmp_path)
     assert status == 2 and out == ""
-    assert err == f"speccheck: error: {plan}:line 1, col 1: plan_version: Input should be 1\n"
+    assert err == f"speccheck: error: {plan}:1:1: plan_version: Input should be 1\n"
 
 
 def test_missing_data_one_line_exit_2(run_cli, reject_lot: Path, tmp_path: Path):

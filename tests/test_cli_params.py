@@ -172,7 +172,7 @@ def test_bad_file_exit_2_naming_the_file(tmp_path, capsys):
     path.write_text("x [mm],z [um]\n0,1\n0.0005,oops\n")
     assert main(["params", str(path), "--cutoff", "0.8mm"]) == 2
     err = capsys.readouterr().err
-    assert err.startswith(f"speccheck: error: {path}:line 3") and err.count("\n") == 1
+    assert err.startswith(f"speccheck: error: {path}:3:2: not a number") and err.count("\n") == 1
 
 
 def test_flat_profile_gives_null_not_nan(tmp_path, capsys):

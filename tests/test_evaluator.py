@@ -300,7 +300,7 @@ def test_guarded_rule_without_uncertainty_is_a_spec_error(tmp_path):
     spec = write_spec(tmp_path, '- "Ra 0.8"\n', "decision_rule: guarded-acceptance\n")
     with pytest.raises(
         SpecError,
-        match=r"spec\.yaml:line 6, col 5: Ra 0\.8: decision rule guarded-acceptance needs",
+        match=r"spec\.yaml:6:5: Ra 0\.8: decision rule guarded-acceptance needs",
     ):
         evaluate(spec, [sine(1.0)])
 

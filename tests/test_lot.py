@@ -133,31 +133,31 @@ def test_load_plan(tmp_path: Path):
     [
         (
             plan_text(extra="colour: red\n"),
-            "plan.yaml:line 15, col 1: unknown key 'colour'",
+            "plan.yaml:15:1: unknown key 'colour'",
         ),
         (
             plan_text(sampling="sample_size: 5\n  inspection_level: II\n  acceptance_number: 1"),
-            "plan.yaml:line 12, col 1: sampling: give either 'sample_size' or "
+            "plan.yaml:12:1: sampling: give either 'sample_size' or "
             "'inspection_level: II', not both or neither",
         ),
         (
             plan_text(sampling="inspection_level: III\n  acceptance_number: 1"),
-            "plan.yaml:line 13, col 3: sampling.inspection_level: Input should be 'II'",
+            "plan.yaml:13:3: sampling.inspection_level: Input should be 'II'",
         ),
         (
             plan_text(sampling="sample_size: 5"),
-            "plan.yaml:line 12, col 1: missing key 'acceptance_number' in sampling",
+            "plan.yaml:12:1: missing key 'acceptance_number' in sampling",
         ),
         (
             plan_text(extra='data:\n  pattern: "{serial}/*.csv"\n'),
-            "plan.yaml:line 16, col 3: data.pattern: unknown placeholder {serial} "
+            "plan.yaml:16:3: data.pattern: unknown placeholder {serial} "
             "(known: {part_serial}, {surface})",
         ),
         (
             plan_text().replace("spec: spec.yaml", "spec: missing.yaml"),
-            "plan.yaml:line 10, col 5: surfaces.seal-seat.spec: spec file 'missing.yaml' not found",
+            "plan.yaml:10:5: surfaces.seal-seat.spec: spec file 'missing.yaml' not found",
         ),
-        ("plan_version: 1\nlot: !!python/object:os.system {}\n", "plan.yaml:line 2, col 6: tag"),
+        ("plan_version: 1\nlot: !!python/object:os.system {}\n", "plan.yaml:2:6: tag"),
     ],
 )
 def test_plan_errors_name_file_and_place(tmp_path: Path, text: str, message: str):

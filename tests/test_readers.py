@@ -338,7 +338,7 @@ def test_comments_and_blank_lines_between_rows(tmp_path):
     assert np.array_equal(q.z_um, z) and q.source.comment == "moved probe"
     rows[20] = rows[20].replace(",", ",x")
     (tmp_path / "k.csv").write_text("x [mm],z [um]\n" + "\n".join(rows) + "\n")
-    with pytest.raises(InputError, match=r"k\.csv:line 22, column 2: not a number: 'x"):
+    with pytest.raises(InputError, match=r"k\.csv:22:2: not a number: 'x"):
         read_profile(tmp_path / "k.csv")
 
 

@@ -34,68 +34,68 @@ def check(run_cli, path, expected, *extra):
     [
         (b"", " file is empty"),
         (b"\n  \n", " file is empty"),
-        (b"x [mm],z [um]\n", "line 1: header but no data rows"),
+        (b"x [mm],z [um]\n", "1: header but no data rows"),
         (b"# comment: nothing\n", " no header and no data (only comment lines)"),
         (
             _csv().replace("0.0015,0", "0.0015,abc").encode(),
-            "line 5, column 2: not a number: 'abc'",
+            "5:2: not a number: 'abc'",
         ),
         (
             _csv().replace("0.0015,0", "0.0015,1_0").encode(),
-            "line 5, column 2: not a number: '1_0'",
+            "5:2: not a number: '1_0'",
         ),
         (
             _csv().replace("0.0015,0", "0.0010,0").encode(),
-            "line 5: x repeats (x = 0.001 mm after 0.001 mm); x must increase at every point",
+            "5: x repeats (x = 0.001 mm after 0.001 mm); x must increase at every point",
         ),
         (
             _csv().replace("0.0015,0", "0.0005,0").encode(),
-            "line 5: x goes backwards (x = 0.0005 mm after 0.001 mm); "
+            "5: x goes backwards (x = 0.0005 mm after 0.001 mm); "
             "x must increase at every point",
         ),
         (
             _csv().replace("0.0015,0", "0.0016,0").encode(),
-            "line 5: x spacing 0.6 µm differs from the mean spacing 0.5 µm by more than 1%; "
+            "5: x spacing 0.6 µm differs from the mean spacing 0.5 µm by more than 1%; "
             "speccheck needs uniformly sampled profiles",
         ),
-        (_csv(n=15).encode(), "line 1: only 15 points; a profile needs at least 16"),
+        (_csv(n=15).encode(), "1: only 15 points; a profile needs at least 16"),
         (
             ("x [mm],z [um]\n" + "".join(f"{i * 0.0005:.4f},nan\n" for i in range(20))).encode(),
-            "line 1: all 20 points are invalid (no measured height)",
+            "1: all 20 points are invalid (no measured height)",
         ),
         (
             _csv().encode()[:40] + b"\x00\x01\x02" + _csv().encode()[40:],
-            "line 4: binary data (NUL byte) in a text file",
+            "4: binary data (NUL byte) in a text file",
         ),
         (
             b"x [mm],z [um]\n0.0,\xff\xfe\n",
-            "line 2: not UTF-8 text (byte 0xFF); is this a binary file?",
+            "2: not UTF-8 text (byte 0xFF); is this a binary file?",
         ),
         (
             _csv().replace("z [um]", "z [furlong]").encode(),
-            "line 1, column 2: unknown length unit 'furlong' (known: µm, m, mm, um, nm, in, uin)",
+            "1:2: unknown length unit 'furlong' (known: µm, m, mm, um, nm, in, uin)",
         ),
         (
             _csv().replace("z [um]", "z").encode(),
-            "line 1, column 2: column 'z' has no unit; write e.g. 'z [um]'",
+            "1:2: column 'z' has no unit; write e.g. 'z [um]'",
         ),
         (
             _csv().replace("z [um]", "y [um]").encode(),
-            "line 1, column 2: unknown column 'y [um]'; expected 'x [unit]' and 'z [unit]'",
+            "1:2: unknown column 'y [um]'; expected 'x [unit]' and 'z [unit]'",
         ),
         (
             _csv().replace("x [mm],z [um]\n", "").encode(),
-            "line 1: no header line; name the columns and their units first, e.g. 'x [mm],z [um]'",
+            "1: no header line; name the columns and their units first, e.g. 'x [mm],z [um]'",
         ),
-        (_csv().replace("0.0015,0", "0.0015,0,7").encode(), "line 5: 3 fields, the header names 2"),
+        (_csv().replace("0.0015,0", "0.0015,0,7").encode(), "5: 3 fields, the header names 2"),
         (
             ("x [mm],z [um]\n" + "".join(f"0,{i:04d},0,5\n" for i in range(20))).encode(),
-            "line 2: 4 fields, the header names 2 "
+            "2: 4 fields, the header names 2 "
             "(decimal commas? use ';' between fields and decimal ',')",
         ),
         (
             _csv().replace(",", ";").replace("0.0015;0", "0.0015;0,5").encode(),
-            "line 5, column 2: decimal comma in '0,5'; read the file with decimal ','",
+            "5:2: decimal comma in '0,5'; read the file with decimal ','",
         ),
     ],
 )
@@ -111,7 +111,7 @@ def test_decimal_comma_needs_another_separator(tmp_path, run_cli):
     check(
         run_cli,
         f,
-        "line 1: with decimal commas the fields must be separated by ';', tab or spaces",
+        "1: with decimal commas the fields must be separated by ';', tab or spaces",
         "--decimal",
         ",",
     )
@@ -121,7 +121,7 @@ def test_z_only_needs_dx(tmp_path, run_cli):
     f = tmp_path / "z.txt"
     f.write_text("z [um]\n" + "1\n" * 20)
     check(
-        run_cli, f, "line 1: the file has no x column; give the sampling spacing, e.g. --dx 0.5um"
+        run_cli, f, "1: the file has no x column; give the sampling spacing, e.g. --dx 0.5um"
     )
     status, _, err = run_cli("info", f, "--dx", "0.5 kg")
     assert status == 2
@@ -255,13 +255,13 @@ def test_sdf_errors(tmp_path, run_cli):
     values = [str(i) for i in range(20)]
     f = tmp_path / "bad.sdf"
     f.write_text(sdf_text(values, n_profiles=3))
-    check(run_cli, f, "line 6: NumProfiles is 3; a profile file has exactly 1")
+    check(run_cli, f, "6: NumProfiles is 3; a profile file has exactly 1")
     f.write_text(sdf_text(values, version="bISO-1.0"))
-    check(run_cli, f, "line 1: Version 'bISO-1.0': only ASCII SDF (Version a...) is supported")
+    check(run_cli, f, "1: Version 'bISO-1.0': only ASCII SDF (Version a...) is supported")
     f.write_text(sdf_text(values[:-1] + ["1.2.3"]))
-    check(run_cli, f, "line 18, column 5: not a number: '1.2.3'")
+    check(run_cli, f, "18:5: not a number: '1.2.3'")
     f.write_text(sdf_text(values).replace("NumPoints = 20", "NumPoints = 21"))
-    check(run_cli, f, "line 5: 20 heights where NumPoints is 21")
+    check(run_cli, f, "5: 20 heights where NumPoints is 21")
     f.write_text(sdf_text(values).replace("Zscale = 1e-06\n", ""))
     check(run_cli, f, "header: SDF header lacks Zscale")
 

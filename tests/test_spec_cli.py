@@ -81,7 +81,7 @@ def test_explain_bad_spec_is_one_line_exit_2(tmp_path, capsys):
     assert main(["explain", path]) == 2
     captured = capsys.readouterr()
     assert captured.out == ""
-    assert captured.err == f"speccheck: error: {path}:line 9, col 5: unknown parameter 'Rx'\n"
+    assert captured.err == f"speccheck: error: {path}:9:5: unknown parameter 'Rx'\n"
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)

@@ -46,7 +46,7 @@ def test_python_tag_is_refused_and_nothing_runs(tmp_path):
     payload = f'!!python/object/apply:os.system ["touch {marker}"]'
     path = write(tmp_path, f"notes: {payload}\nrequirements:\n  - Ra 0.8\n")
     assert error_of(path) == (
-        f"{path}:line 6, col 8: tag '!!python/object/apply:os.system' is not allowed in a "
+        f"{path}:6:8: tag '!!python/object/apply:os.system' is not allowed in a "
         "specification file"
     )
     assert not marker.exists()
@@ -68,23 +68,23 @@ def test_other_tags_are_refused(tmp_path, value, tag):
     path = write(tmp_path, f"notes: {value}\nrequirements:\n  - Ra 0.8\n")
     assert (
         error_of(path)
-        == f"{path}:line 6, col 8: tag '{tag}' is not allowed in a specification file"
+        == f"{path}:6:8: tag '{tag}' is not allowed in a specification file"
     )
 
 
 def test_duplicate_key(tmp_path):
     path = write(tmp_path, "requirements:\n  - Ra 0.8\nconvention: asme\nconvention: iso1302\n")
-    assert error_of(path) == f"{path}:line 9, col 1: duplicate key 'convention'"
+    assert error_of(path) == f"{path}:9:1: duplicate key 'convention'"
 
 
 def test_duplicate_key_inside_a_requirement(tmp_path):
     path = write(tmp_path, "requirements:\n  - parameter: Ra\n    upper: 0.8um\n    upper: 0.4um\n")
-    assert error_of(path) == f"{path}:line 9, col 5: duplicate key 'upper'"
+    assert error_of(path) == f"{path}:9:5: duplicate key 'upper'"
 
 
 def test_yaml_syntax_error_has_line_and_col(tmp_path):
     path = write(tmp_path, "requirements:\n  - [Ra 0.8\n")
-    assert error_of(path).startswith(f"{path}:line 8, col 1: YAML syntax: ")
+    assert error_of(path).startswith(f"{path}:8:1: YAML syntax: ")
 
 
 def test_billion_laughs_aliases_are_bounded(tmp_path):
@@ -107,7 +107,7 @@ def test_empty_file_and_not_a_mapping(tmp_path):
     lst.write_text("- Ra 0.8\n")
     assert (
         error_of(str(lst))
-        == f"{lst}:line 1, col 1: a specification file is a mapping starting with 'spec_version: 1'"
+        == f"{lst}:1:1: a specification file is a mapping starting with 'spec_version: 1'"
     )
 
 
@@ -124,7 +124,7 @@ def test_unknown_key_points_at_the_key(tmp_path):
         tmp_path, "requirements:\n  - parameter: Ra\n    upper: 0.8um\n    tolerance: 0.1um\n"
     )
     assert error_of(path) == (
-        f"{path}:line 9, col 5: unknown key 'tolerance' in requirements[0] (allowed: parameter, "
+        f"{path}:9:5: unknown key 'tolerance' in requirements[0] (allowed: parameter, "
         "upper, lower, rule, cutoff, ls, sections, filter, form)"
     )
 
@@ -153,17 +153,17 @@ def test_whole_list_of_validation_errors(tmp_path):
     result = check_spec(path)
     assert result.spec is None
     assert [e.one_line() for e in result.errors] == [
-        f"{path}:line 2, col 1: missing key 'number' in part",
-        f"{path}:line 5, col 1: convention: Input should be 'iso1302', 'iso21920' or 'asme'",
-        f"{path}:line 7, col 3: measurement.sections: Input should be greater than or equal to 1",
-        f"{path}:line 8, col 3: unknown key 'filtre' in measurement (allowed: cutoff, ls, "
+        f"{path}:2:1: missing key 'number' in part",
+        f"{path}:5:1: convention: Input should be 'iso1302', 'iso21920' or 'asme'",
+        f"{path}:7:3: measurement.sections: Input should be greater than or equal to 1",
+        f"{path}:8:3: unknown key 'filtre' in measurement (allowed: cutoff, ls, "
         "sections, "
         "filter, form, value_per)",
-        f"{path}:line 11, col 5: requirements[1]: a requirement is callout text such as 'Ra 0.8' "
+        f"{path}:11:5: requirements[1]: a requirement is callout text such as 'Ra 0.8' "
         "or a "
         "mapping with 'parameter'",
-        f"{path}:line 14, col 5: requirements[2].rule: Input should be '16%' or 'max'",
-        f"{path}:line 16, col 3: diagnostics.isolated_features: Input should be 'report' or "
+        f"{path}:14:5: requirements[2].rule: Input should be '16%' or 'max'",
+        f"{path}:16:3: diagnostics.isolated_features: Input should be 'report' or "
         "'undecided'",
     ]
 
@@ -171,7 +171,7 @@ def test_whole_list_of_validation_errors(tmp_path):
 def test_spec_version_is_required(tmp_path):
     p = tmp_path / "s.yaml"
     p.write_text("part: {number: A, revision: B, surface: C}\nrequirements: [Ra 0.8]\n")
-    assert error_of(str(p)) == f"{p}:line 1, col 1: missing key 'spec_version'"
+    assert error_of(str(p)) == f"{p}:1:1: missing key 'spec_version'"
 
 
 # --- resolution errors, all collected --------------------------------------------------------
@@ -197,15 +197,15 @@ def test_resolution_errors_are_all_collected_with_positions(tmp_path):
     )
     result = check_spec(path)
     assert [e.one_line() for e in result.errors] == [
-        f"{path}:line 7, col 6: unknown parameter 'Rx'",
-        f"{path}:line 9, col 5: upper limit of Ra 0.8 has no unit (write e.g. '0.8um')",
-        f"{path}:line 10, col 5: the lower limit of Ra (0.4 µm) must be less than the upper limit "
+        f"{path}:7:6: unknown parameter 'Rx'",
+        f"{path}:9:5: upper limit of Ra 0.8 has no unit (write e.g. '0.8um')",
+        f"{path}:10:5: the lower limit of Ra (0.4 µm) must be less than the upper limit "
         "(0.2 µm)",
-        f"{path}:line 12, col 5: the upper limit of Rz must be greater than 0",
-        f"{path}:line 13, col 5: requirement on Rz needs 'upper', 'lower' or both",
-        f"{path}:line 14, col 5: no default cut-off can be read from a limit of Rmr(0.5): state "
+        f"{path}:12:5: the upper limit of Rz must be greater than 0",
+        f"{path}:13:5: requirement on Rz needs 'upper', 'lower' or both",
+        f"{path}:14:5: no default cut-off can be read from a limit of Rmr(0.5): state "
         "measurement.cutoff, 'cutoff' in the requirement, or a band such as '-0.8/'",
-        f"{path}:line 17, col 3: measurement.ls 2.5 has no unit (write e.g. '2.5um')",
+        f"{path}:17:3: measurement.ls 2.5 has no unit (write e.g. '2.5um')",
     ]
 
 
@@ -214,19 +214,19 @@ def test_callout_column_maps_to_the_yaml_column(tmp_path):
     plain = write(tmp_path, "requirements:\n  - Ra 0.8\n  - Rz mux 6.3\n", "plain.yaml")
     assert (
         error_of(plain)
-        == f"{plain}:line 8, col 8: expected the limit of Rz (a number), found 'mux'"
+        == f"{plain}:8:8: expected the limit of Rz (a number), found 'mux'"
     )
     quoted = write(tmp_path, "requirements:\n  - 'Rz mux 6.3'\n", "quoted.yaml")
     assert (
         error_of(quoted)
-        == f"{quoted}:line 7, col 9: expected the limit of Rz (a number), found 'mux'"
+        == f"{quoted}:7:9: expected the limit of Rz (a number), found 'mux'"
     )
 
 
 def test_callout_on_several_lines_names_the_character(tmp_path):
     path = write(tmp_path, "requirements:\n  - >-\n    U Rz 4;\n    L Rz x\n")
     assert error_of(path) == (
-        f"{path}:line 7, col 5: expected the limit of Rz (a number), found 'x' (character 14 of "
+        f"{path}:7:5: expected the limit of Rz (a number), found 'x' (character 14 of "
         "the callout)"
     )
 
@@ -238,10 +238,10 @@ def test_iso21920_needs_an_explicit_rule(tmp_path):
     )
     result = check_spec(path)
     assert [e.one_line() for e in result.errors] == [
-        f"{path}:line 8, col 5: convention iso21920 has no default acceptance rule: add 'max' or "
+        f"{path}:8:5: convention iso21920 has no default acceptance rule: add 'max' or "
         "'16%' to "
         "the callout (ISO 21920-1 has both a max rule and a 16 % rule)",
-        f"{path}:line 9, col 5: convention iso21920 has no default acceptance rule: add 'rule: "
+        f"{path}:9:5: convention iso21920 has no default acceptance rule: add 'rule: "
         "max' or "
         "'rule: 16%' (ISO 21920-1 has both a max rule and a 16 % rule)",
     ]
@@ -415,7 +415,7 @@ def test_structured_requirement_with_units(tmp_path):
 )
 def test_value_without_unit(tmp_path, upper, message):
     path = write(tmp_path, f"requirements:\n  - parameter: Ra\n    upper: {upper}\n")
-    assert error_of(path) == f"{path}:line 8, col 5: {message}"
+    assert error_of(path) == f"{path}:8:5: {message}"
 
 
 def test_percent_parameter_needs_the_percent_sign(tmp_path):
@@ -424,10 +424,10 @@ def test_percent_parameter_needs_the_percent_sign(tmp_path):
     )
     assert (
         error_of(path)
-        == f"{path}:line 9, col 5: upper limit of Mr1 12 has no unit (write e.g. '12%')"
+        == f"{path}:9:5: upper limit of Mr1 12 has no unit (write e.g. '12%')"
     )
     path = write(tmp_path, "measurement: {cutoff: 0.8mm}\nrequirements:\n  - Mr1 120\n", "b.yaml")
-    assert error_of(path) == f"{path}:line 8, col 5: the upper limit of Mr1 must not exceed 100 %"
+    assert error_of(path) == f"{path}:8:5: the upper limit of Mr1 must not exceed 100 %"
 
 
 def test_loaded_spec_keeps_the_file(tmp_path):
@@ -461,7 +461,7 @@ def test_sections_in_mapping_must_agree_with_the_name(tmp_path):
     path = write(tmp_path, "requirements:\n  - parameter: Rz3\n    upper: 4um\n    sections: 5\n")
     assert (
         error_of(path)
-        == f"{path}:line 9, col 5: sections 5 contradicts the name 'Rz3' (3 sections)"
+        == f"{path}:9:5: sections 5 contradicts the name 'Rz3' (3 sections)"
     )
 
 

@@ -69,7 +69,7 @@ def test_bare_number_needs_a_unit():
 
 
 def test_unknown_unit_names_the_place():
-    with pytest.raises(SpeccheckError, match=r"^spec.yaml:line 3: unknown length unit 'furlongs'"):
+    with pytest.raises(SpeccheckError, match=r"^spec.yaml:3: unknown length unit 'furlongs'"):
         um_per_unit("furlongs", path="spec.yaml", where="line 3")
     with pytest.raises(SpeccheckError, match=r"unknown length unit 'kg'"):
         parse_length("3 kg")
