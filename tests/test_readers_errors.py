@@ -50,8 +50,7 @@ def check(run_cli, path, expected, *extra):
         ),
         (
             _csv().replace("0.0015,0", "0.0005,0").encode(),
-            "5: x goes backwards (x = 0.0005 mm after 0.001 mm); "
-            "x must increase at every point",
+            "5: x goes backwards (x = 0.0005 mm after 0.001 mm); x must increase at every point",
         ),
         (
             _csv().replace("0.0015,0", "0.0016,0").encode(),
@@ -120,9 +119,7 @@ def test_decimal_comma_needs_another_separator(tmp_path, run_cli):
 def test_z_only_needs_dx(tmp_path, run_cli):
     f = tmp_path / "z.txt"
     f.write_text("z [um]\n" + "1\n" * 20)
-    check(
-        run_cli, f, "1: the file has no x column; give the sampling spacing, e.g. --dx 0.5um"
-    )
+    check(run_cli, f, "1: the file has no x column; give the sampling spacing, e.g. --dx 0.5um")
     status, _, err = run_cli("info", f, "--dx", "0.5 kg")
     assert status == 2
     assert err == f"speccheck: error: {f}: --dx: unknown length unit 'kg' in '0.5 kg'\n"

@@ -46,8 +46,7 @@ def test_python_tag_is_refused_and_nothing_runs(tmp_path):
     payload = f'!!python/object/apply:os.system ["touch {marker}"]'
     path = write(tmp_path, f"notes: {payload}\nrequirements:\n  - Ra 0.8\n")
     assert error_of(path) == (
-        f"{path}:6:8: tag '!!python/object/apply:os.system' is not allowed in a "
-        "specification file"
+        f"{path}:6:8: tag '!!python/object/apply:os.system' is not allowed in a specification file"
     )
     assert not marker.exists()
     # The same text through PyYAML's unsafe loader does run the command: the payload is real.
@@ -66,10 +65,7 @@ def test_python_tag_is_refused_and_nothing_runs(tmp_path):
 )
 def test_other_tags_are_refused(tmp_path, value, tag):
     path = write(tmp_path, f"notes: {value}\nrequirements:\n  - Ra 0.8\n")
-    assert (
-        error_of(path)
-        == f"{path}:6:8: tag '{tag}' is not allowed in a specification file"
-    )
+    assert error_of(path) == f"{path}:6:8: tag '{tag}' is not allowed in a specification file"
 
 
 def test_duplicate_key(tmp_path):
@@ -163,8 +159,7 @@ def test_whole_list_of_validation_errors(tmp_path):
         "or a "
         "mapping with 'parameter'",
         f"{path}:14:5: requirements[2].rule: Input should be '16%' or 'max'",
-        f"{path}:16:3: diagnostics.isolated_features: Input should be 'report' or "
-        "'undecided'",
+        f"{path}:16:3: diagnostics.isolated_features: Input should be 'report' or 'undecided'",
     ]
 
 
@@ -199,8 +194,7 @@ def test_resolution_errors_are_all_collected_with_positions(tmp_path):
     assert [e.one_line() for e in result.errors] == [
         f"{path}:7:6: unknown parameter 'Rx'",
         f"{path}:9:5: upper limit of Ra 0.8 has no unit (write e.g. '0.8um')",
-        f"{path}:10:5: the lower limit of Ra (0.4 µm) must be less than the upper limit "
-        "(0.2 µm)",
+        f"{path}:10:5: the lower limit of Ra (0.4 µm) must be less than the upper limit (0.2 µm)",
         f"{path}:12:5: the upper limit of Rz must be greater than 0",
         f"{path}:13:5: requirement on Rz needs 'upper', 'lower' or both",
         f"{path}:14:5: no default cut-off can be read from a limit of Rmr(0.5): state "
@@ -212,22 +206,15 @@ def test_resolution_errors_are_all_collected_with_positions(tmp_path):
 def test_callout_column_maps_to_the_yaml_column(tmp_path):
     # plain scalar: the callout starts at col 5; quoted: at col 6
     plain = write(tmp_path, "requirements:\n  - Ra 0.8\n  - Rz mux 6.3\n", "plain.yaml")
-    assert (
-        error_of(plain)
-        == f"{plain}:8:8: expected the limit of Rz (a number), found 'mux'"
-    )
+    assert error_of(plain) == f"{plain}:8:8: expected the limit of Rz (a number), found 'mux'"
     quoted = write(tmp_path, "requirements:\n  - 'Rz mux 6.3'\n", "quoted.yaml")
-    assert (
-        error_of(quoted)
-        == f"{quoted}:7:9: expected the limit of Rz (a number), found 'mux'"
-    )
+    assert error_of(quoted) == f"{quoted}:7:9: expected the limit of Rz (a number), found 'mux'"
 
 
 def test_callout_on_several_lines_names_the_character(tmp_path):
     path = write(tmp_path, "requirements:\n  - >-\n    U Rz 4;\n    L Rz x\n")
     assert error_of(path) == (
-        f"{path}:7:5: expected the limit of Rz (a number), found 'x' (character 14 of "
-        "the callout)"
+        f"{path}:7:5: expected the limit of Rz (a number), found 'x' (character 14 of the callout)"
     )
 
 
@@ -422,10 +409,7 @@ def test_percent_parameter_needs_the_percent_sign(tmp_path):
     path = write(
         tmp_path, "measurement: {cutoff: 0.8mm}\nrequirements:\n  - parameter: Mr1\n    upper: 12\n"
     )
-    assert (
-        error_of(path)
-        == f"{path}:9:5: upper limit of Mr1 12 has no unit (write e.g. '12%')"
-    )
+    assert error_of(path) == f"{path}:9:5: upper limit of Mr1 12 has no unit (write e.g. '12%')"
     path = write(tmp_path, "measurement: {cutoff: 0.8mm}\nrequirements:\n  - Mr1 120\n", "b.yaml")
     assert error_of(path) == f"{path}:8:5: the upper limit of Mr1 must not exceed 100 %"
 
@@ -459,10 +443,7 @@ def test_numeric_part_fields_become_text(tmp_path):
 
 def test_sections_in_mapping_must_agree_with_the_name(tmp_path):
     path = write(tmp_path, "requirements:\n  - parameter: Rz3\n    upper: 4um\n    sections: 5\n")
-    assert (
-        error_of(path)
-        == f"{path}:9:5: sections 5 contradicts the name 'Rz3' (3 sections)"
-    )
+    assert error_of(path) == f"{path}:9:5: sections 5 contradicts the name 'Rz3' (3 sections)"
 
 
 # ISO 21920-3:2021 default nesting index by Rz (domain notes 1 [pub, one source]): Rz ≤ 0.16 ->
