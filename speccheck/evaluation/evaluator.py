@@ -23,7 +23,6 @@ conforming. The result is deterministic: the same spec and files give the same r
 
 from __future__ import annotations
 
-import hashlib
 import math
 import re
 from collections.abc import Sequence
@@ -68,8 +67,6 @@ __all__ = [
 # statuses of a measurement for one requirement, in the order they are checked
 _NOT_EVALUATED = ("dropouts", "other-conditions", "insufficient-data", "parameter-not-computed")
 _RANK: dict[str, int] = {"nonconforming": 0, "undecided": 1, "conforming": 2}
-# ISO 3274:1996 Table 1 (standard λc, maximum sampling spacing; the spacing column from memory)
-_STANDARD_CUTOFFS_MM = (0.08, 0.25, 0.8, 2.5, 8.0)
 
 
 @dataclass(frozen=True)
@@ -102,16 +99,13 @@ def max_spacing_for_um(lambda_c_mm: float) -> float:
     used (the stricter neighbour); below 0.08 mm it is scaled down in proportion to λc.
     The spacing column of ISO 3274 Table 1 is from memory (domain notes, section 1).
     """
-    from speccheck.parameters.conditions import instrument_settings
+    from speccheck.parameters.conditions import STANDARD_CUTOFFS_MM, instrument_settings
 
     lc = float(lambda_c_mm)
-    below = [c for c in _STANDARD_CUTOFFS_MM if c <= lc * (1 + 1e-9)]
+    below = [c for c in STANDARD_CUTOFFS_MM if c <= lc * (1 + 1e-9)]
     if not below:
-        return (
-            instrument_settings(_STANDARD_CUTOFFS_MM[0]).max_spacing_um
-            * lc
-            / _STANDARD_CUTOFFS_MM[0]
-        )
+        smallest = STANDARD_CUTOFFS_MM[0]
+        return instrument_settings(smallest).max_spacing_um * lc / smallest
     return instrument_settings(below[-1]).max_spacing_um
 
 
@@ -153,10 +147,6 @@ def _check_requirement(spec: LoadedSpec, req: Requirement) -> None:
         raise SpecError(
             f"{req.text}: the uncertainty must be a number ≥ 0", path=spec.path, where=req.location
         )
-
-
-def _profile_sha256(profile: Profile) -> str | None:
-    return profile.source.sha256
 
 
 def _prepare(profile: Profile) -> Profile:
@@ -601,7 +591,7 @@ def evaluate(
             MeasurementRecord(
                 index=i,
                 path=raw.source.path,
-                sha256=_profile_sha256(raw),
+                sha256=raw.source.sha256,
                 format=raw.source.format,
                 points=raw.n_points,
                 spacing_um=raw.dx_um,
@@ -666,20 +656,12 @@ def load_inputs(
     SpeccheckError
         Bad spec (SpecError) or unreadable profile (InputError), naming the file and place.
     """
-    from speccheck.profile import SourceInfo
     from speccheck.readers import read_profile
     from speccheck.spec.loader import load_spec
 
     spec = load_spec(spec_path)
-    profiles: list[Profile] = []
-    for path in profile_paths:
-        p = read_profile(path, fmt=fmt, dx=dx, decimal=decimal)
-        if p.source.sha256 is None:
-            sha = hashlib.sha256(Path(path).read_bytes()).hexdigest()
-            s = p.source
-            src = SourceInfo(s.path or str(path), sha, s.format, s.instrument, s.date, s.comment)
-            p = p.replace(source=src)
-        profiles.append(p)
+    # read_profile records the SHA-256 of each file's bytes in Profile.source
+    profiles = [read_profile(p, fmt=fmt, dx=dx, decimal=decimal) for p in profile_paths]
     return spec, profiles
 
 

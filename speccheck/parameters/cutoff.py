@@ -20,6 +20,7 @@ import numpy as np
 
 from speccheck.parameters.compute import InsufficientData, compute_parameters
 from speccheck.parameters.conditions import (
+    STANDARD_CUTOFFS_MM,
     Conditions,
     CutoffSelection,
     default_lambda_s_um,
@@ -28,8 +29,6 @@ from speccheck.parameters.conditions import (
 
 __all__ = ["START_LAMBDA_C_MM", "TrialTooShort", "DefaultCutoff", "lambda_s_for", "choose_lambda_c"]
 
-#: Standard cut-offs (ISO 4288:1996 Tables 1-3).
-_STANDARD_MM = (0.08, 0.25, 0.8, 2.5, 8.0)
 #: First trial cut-off when the trace holds it.
 START_LAMBDA_C_MM = 0.8
 
@@ -107,10 +106,12 @@ def choose_lambda_c(
         return res.values["Ra"].value
 
     fitting = [
-        lc for lc in _STANDARD_MM if conditions(lc).evaluation_slice(z.size, dx_um) is not None
+        lc
+        for lc in STANDARD_CUTOFFS_MM
+        if conditions(lc).evaluation_slice(z.size, dx_um) is not None
     ]
     if not fitting:
-        shortest = compute_parameters(z, dx_um=dx_um, conditions=conditions(_STANDARD_MM[0]))
+        shortest = compute_parameters(z, dx_um=dx_um, conditions=conditions(STANDARD_CUTOFFS_MM[0]))
         assert isinstance(shortest, InsufficientData)
         return shortest
     start = START_LAMBDA_C_MM if START_LAMBDA_C_MM in fitting else fitting[-1]
