@@ -20,14 +20,20 @@ RANKS = {
     "speccheck.filters": 2,
     "speccheck.parameters": 3,
     "speccheck.diagnostics": 4,
+    "speccheck.uncertainty": 4,  # GUM and Monte Carlo propagation: pure, knows no specs
     "speccheck.spec": 5,
+    "speccheck.instrument": 5,
     "speccheck.evaluation": 6,
-    "speccheck.report": 7,
-    "speccheck.templates": 7,
-    "speccheck.lot": 8,
-    "speccheck.records": 8,
-    "speccheck.demo": 9,
-    "speccheck.cli": 10,
+    "speccheck.view": 7,  # one view model for PDF and page; never readers or parameters
+    "speccheck.report": 8,
+    "speccheck.templates": 8,
+    "speccheck.lot": 9,
+    "speccheck.records": 9,
+    "speccheck.replay": 10,
+    "speccheck.demo": 11,
+    "speccheck.api": 12,
+    "speccheck.web": 13,
+    "speccheck.cli": 13,
 }
 
 
