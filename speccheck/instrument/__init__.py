@@ -5,6 +5,7 @@ and against which certificate, and the calibration data that measurement uncerta
 from (vertical amplification, horizontal scale, residual noise, repeatability).
 """
 
+from speccheck.instrument.loader import LoadedInstrument, check_instrument, load_instrument
 from speccheck.instrument.models import (
     Amplification,
     Calibration,
@@ -17,6 +18,9 @@ from speccheck.instrument.models import (
 )
 
 __all__ = [
+    "LoadedInstrument",
+    "check_instrument",
+    "load_instrument",
     "Amplification",
     "Calibration",
     "HorizontalScale",

@@ -84,7 +84,10 @@ def _locate(data: Any, loc: tuple[Any, ...]) -> tuple[KeyPath, KeyPath]:
     return tuple(found), tuple(clean)
 
 
-def _pydantic_errors(exc: Any, doc: Document, path: str) -> list[SpecError]:
+def _pydantic_errors(
+    exc: Any, doc: Document, path: str, models_at: Any = model_at
+) -> list[SpecError]:
+    """pydantic errors as SpecErrors at file:line:col; ``models_at(path)`` names allowed keys."""
     errors = []
     for e in exc.errors(include_url=False):
         found, clean = _locate(doc.data, tuple(e["loc"]))
@@ -92,7 +95,7 @@ def _pydantic_errors(exc: Any, doc: Document, path: str) -> list[SpecError]:
         inside = f" in {_key_text(parent)}" if parent else ""
         kind = e["type"]
         if kind == "extra_forbidden":
-            model = model_at(parent)
+            model = models_at(parent)
             allowed = f" (allowed: {', '.join(model.model_fields)})" if model is not None else ""
             message = f"unknown key '{clean[-1]}'{inside}{allowed}"
         elif kind == "missing":
