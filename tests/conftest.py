@@ -17,3 +17,19 @@ def run_cli(capsys):
         return status, captured.out, captured.err
 
     return run
+
+
+@pytest.fixture(scope="session")
+def postgres_server():
+    """A throwaway PostgreSQL server on 127.0.0.1 for the whole session (see _postgres_server)."""
+    from _postgres_server import start_server
+
+    server = start_server()
+    yield server
+    server.stop()
+
+
+@pytest.fixture
+def pg_url(postgres_server) -> str:
+    """URL of a fresh, empty database on the throwaway server."""
+    return postgres_server.new_database()

@@ -72,6 +72,7 @@ record_flag = click.option(
 db_option = click.option(
     "--db",
     default=None,
-    metavar="PATH",
-    help="Records store (default: $SPECCHECK_DB, else speccheck-records.sqlite here).",
+    metavar="STORE",
+    help="Records store: a file (SQLite) or postgresql://... "
+    "(default: $SPECCHECK_DB, else speccheck-records.sqlite here).",
 )

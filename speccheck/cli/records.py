@@ -177,3 +177,57 @@ def trend(
     if out:
         click.echo(f"plot written to {out}", err=True)
     return 0
+
+
+@command.command(name="migrate")
+@click.option(
+    "--from",
+    "source",
+    required=True,
+    metavar="STORE",
+    help="Store to copy: sqlite:FILE, a file path, or postgresql://...",
+)
+@click.option(
+    "--to",
+    "target",
+    required=True,
+    metavar="STORE",
+    help="Empty store to copy into: postgresql://... or sqlite:FILE.",
+)
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
+def migrate(source: str, target: str, as_json: bool) -> int:
+    """Copy a store record for record and prove both chains equal. Exit 0 equal, 1 not.
+
+    Calls speccheck.records.migrate.migrate.
+    """
+    from speccheck.records.migrate import migrate as run_migration
+    from speccheck.records.protocol import store_location
+
+    res = run_migration(str(store_location(source)), str(store_location(target)))
+    if as_json:
+        click.echo(json.dumps(res.to_dict(), indent=2, ensure_ascii=False))
+    else:
+        state = "equal" if res.chains_equal and res.target_intact else "NOT equal"
+        click.echo(
+            f"{res.records} records copied to {res.target}; chains {state}; head {res.head_hash}"
+        )
+    return 0 if res.chains_equal and res.target_intact else 1
+
+
+@command.command(name="writer-role")
+@click.argument("role")
+@db_option
+def writer_role(role: str, db: str | None) -> int:
+    """Let a PostgreSQL role read and append records, nothing else (run as the store's owner).
+
+    Calls speccheck.records.postgres.PostgresStore.grant_writer.
+    """
+    from speccheck.errors import RecordsError
+    from speccheck.records.postgres import PostgresStore
+
+    with _open(db, create=True) as store:
+        if not isinstance(store, PostgresStore):
+            raise RecordsError("writer roles exist only on a PostgreSQL store", path=store.location)
+        store.grant_writer(role)
+    click.echo(f"role {role!r} may now SELECT and INSERT records, nothing else", err=True)
+    return 0

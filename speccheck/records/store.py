@@ -115,12 +115,14 @@ def record_hash(prev_hash: str, content: Mapping[str, Any]) -> str:
     return hashlib.sha256((prev_hash + canonical_json(content)).encode("utf-8")).hexdigest()
 
 
-def default_db_path(db: str | os.PathLike[str] | None = None) -> Path:
-    """``db`` if given, else ``$SPECCHECK_DB``, else ``speccheck-records.sqlite`` here."""
-    if db:
-        return Path(db)
-    env = os.environ.get(DB_ENV)
-    return Path(env) if env else Path(DEFAULT_DB_NAME)
+def default_db_path(db: str | os.PathLike[str] | None = None) -> str | Path:
+    """``db`` if given, else ``$SPECCHECK_DB``, else ``speccheck-records.sqlite`` here.
+
+    A ``postgresql://`` URL comes back as text; ``sqlite:FILE`` and plain paths as a Path.
+    """
+    from speccheck.records.protocol import store_location
+
+    return store_location(db or os.environ.get(DB_ENV) or DEFAULT_DB_NAME)
 
 
 @dataclass(frozen=True)
@@ -235,11 +237,31 @@ def _row_to_record(row: sqlite3.Row | tuple) -> Record:
     return Record(**d)
 
 
+def _chained_row(last: Any, fields: Mapping[str, Any]) -> tuple[Any, ...]:
+    """The row to insert after ``last`` (its ``(id, record_hash)``, None for an empty store).
+
+    Called inside the backend's writing transaction, so ``last`` is the true last record.
+    """
+    new_id, prev = (int(last[0]) + 1, str(last[1])) if last else (1, GENESIS_HASH)
+    rec = Record(id=new_id, time=_utc_now(), prev_hash=prev, record_hash="", **fields)
+    h = record_hash(prev, rec.content())
+    row = {**rec.content(), "profile_sha256s": json.dumps(list(rec.profile_sha256s))}
+    row.update(prev_hash=prev, record_hash=h)
+    return tuple(row[c] for c in _COLUMNS)
+
+
+def _verbatim_row(rec: Record) -> tuple[Any, ...]:
+    row = {**rec.content(), "profile_sha256s": json.dumps(list(rec.profile_sha256s))}
+    row.update(prev_hash=rec.prev_hash, record_hash=rec.record_hash)
+    return tuple(row[c] for c in _COLUMNS)
+
+
 class RecordsStore:
     """An open records database. Use :meth:`open`; close with :meth:`close` or ``with``."""
 
-    def __init__(self, path: Path, conn: sqlite3.Connection):
+    def __init__(self, path: Path | str, conn: Any):
         self.path = path
+        self.location = str(path)
         self._conn = conn
 
     # -- opening -------------------------------------------------------------------------
@@ -254,6 +276,12 @@ class RecordsStore:
             The file does not exist (and ``create`` is False), is not SQLite, or is an SQLite
             database that is not a speccheck records store.
         """
+        from speccheck.records.protocol import is_postgres_url
+
+        if is_postgres_url(path):
+            from speccheck.records.postgres import PostgresStore
+
+            return PostgresStore.connect(str(path), create=create)
         p = Path(path)
         if not p.exists() and not create:
             raise RecordsError("no records store here (nothing has been recorded yet)", path=str(p))
@@ -355,6 +383,20 @@ class RecordsStore:
             raise RecordsError(
                 f"result cannot be stored as JSON ({exc})", path=str(self.path)
             ) from None
+        fields = {
+            "kind": kind,
+            "part": part,
+            "spec_sha256": spec_sha256,
+            "profile_sha256s": tuple(profile_sha256s),
+            "verdict": verdict,
+            "result_json": result_json,
+            "report_sha256": report_sha256,
+            "signer": signer,
+        }
+        return self._append_fields(fields)
+
+    def _append_fields(self, fields: Mapping[str, Any]) -> int:
+        """Insert the next record of the chain in one writing transaction; return its id."""
         c = self._conn
         try:
             c.execute("BEGIN IMMEDIATE")
@@ -366,39 +408,8 @@ class RecordsStore:
             last = c.execute(
                 "SELECT id, record_hash FROM records ORDER BY id DESC LIMIT 1"
             ).fetchone()
-            new_id, prev = (last[0] + 1, last[1]) if last else (1, GENESIS_HASH)
-            rec = Record(
-                id=new_id,
-                time=_utc_now(),
-                kind=kind,
-                part=part,
-                spec_sha256=spec_sha256,
-                profile_sha256s=tuple(profile_sha256s),
-                verdict=verdict,
-                result_json=result_json,
-                report_sha256=report_sha256,
-                signer=signer,
-                prev_hash=prev,
-                record_hash="",
-            )
-            h = record_hash(prev, rec.content())
-            c.execute(
-                _INSERT,
-                (
-                    rec.id,
-                    rec.time,
-                    rec.kind,
-                    rec.part,
-                    rec.spec_sha256,
-                    json.dumps(list(rec.profile_sha256s)),
-                    rec.verdict,
-                    rec.result_json,
-                    rec.report_sha256,
-                    rec.signer,
-                    prev,
-                    h,
-                ),
-            )
+            values = _chained_row(last, fields)
+            c.execute(_INSERT, values)
             c.execute("COMMIT")
         except BaseException as exc:
             c.execute("ROLLBACK")
@@ -407,7 +418,23 @@ class RecordsStore:
                     f"cannot write to the records store ({exc})", path=str(self.path)
                 ) from None
             raise
-        return new_id
+        return int(values[0])
+
+    def _insert_verbatim(self, records: list[Record]) -> None:
+        """Insert records exactly as they are (ids, times, hashes), in one transaction."""
+        c = self._conn
+        try:
+            c.execute("BEGIN IMMEDIATE")
+            try:
+                c.executemany(_INSERT, [_verbatim_row(r) for r in records])
+                c.execute("COMMIT")
+            except BaseException:
+                c.execute("ROLLBACK")
+                raise
+        except sqlite3.Error as exc:
+            raise RecordsError(
+                f"cannot write to the records store ({exc})", path=str(self.path)
+            ) from None
 
     def append_check(
         self,
@@ -493,7 +520,7 @@ class RecordsStore:
         sql += " ORDER BY id"
         if limit is not None:
             newest_first = sql.replace(" ORDER BY id", " ORDER BY id DESC")
-            sql = f"SELECT * FROM ({newest_first} LIMIT ?) ORDER BY id"
+            sql = f"SELECT * FROM ({newest_first} LIMIT ?) AS newest ORDER BY id"
             params.append(int(limit))
         return list(self._rows(sql, tuple(params)))
 
