@@ -118,30 +118,34 @@ def _run_dask(
     sink: Callable[[list[Outcome]], None],
 ) -> None:
     try:
-        from distributed import Client, as_completed
+        from distributed import Client, wait
     except ImportError:
         raise SpeccheckError(
             "--scheduler needs Dask distributed: pip install 'speccheck[plant]'"
         ) from None
     try:
-        client = Client(address, timeout="30s", set_as_default=False)
+        client = Client(address, timeout="30s")  # the default client while it runs: wait() uses it
     except (OSError, TimeoutError) as exc:
         raise SpeccheckError(f"cannot reach the Dask scheduler {address} ({exc})") from None
     try:
-        workers = max(
-            1, sum(w.get("nthreads", 1) for w in client.scheduler_info()["workers"].values())
-        )
+        info = client.scheduler_info()["workers"].values()
+        workers = max(1, sum(w.get("nthreads", 1) for w in info))
         spec_future = client.scatter(spec[0], broadcast=True)
-        window = as_completed()
-        for items in submit_args:
-            window.add(client.submit(run_batch, spec_future, spec[1], items, pure=False))
-            while window.count() >= workers * _IN_FLIGHT_PER_WORKER:
-                f = next(window)
+        pending: set[Any] = set()
+
+        def drain(return_when: str) -> set[Any]:
+            done, rest = wait(list(pending), return_when=return_when)
+            for f in done:
                 sink(f.result())
                 f.release()
-        for f in window:
-            sink(f.result())
-            f.release()
+            return set(rest)
+
+        for items in submit_args:
+            pending.add(client.submit(run_batch, spec_future, spec[1], items, pure=False))
+            if len(pending) >= workers * _IN_FLIGHT_PER_WORKER:
+                pending = drain("FIRST_COMPLETED")
+        if pending:
+            drain("ALL_COMPLETED")
     finally:
         client.close()
 
