@@ -259,20 +259,57 @@ def test_short_bridged_dropout_still_evaluates(tmp_path):
     assert res.measurements[0].dropouts["interpolated_points"] == 2
 
 
-def test_unknown_measurement_only_decides_when_it_matters(tmp_path):
+def test_unknown_measurement_is_not_a_step_of_the_procedure(tmp_path):
+    # ISO 4288:1996 5.2 step procedure on the values evaluated: a trace too short gave no value
     spec = write_spec(tmp_path, '- "Ra 0.8"\n')
-    good = [sine(amplitude_for_ra(0.64), name=f"p{i}") for i in range(3)]
+    good = [sine(amplitude_for_ra(0.64), name=f"p{i}") for i in range(3)]  # 80 % of the limit
     short = sine(1.0, points=6000, name="short")
     res = evaluate(spec, [short, *good], created="t")
     r = res.requirements[0]
-    # counted exceeding: 1 of 4 -> step 6 needs 2 more; counted within: conforming -> undecided
+    assert r.verdict == "conforming"  # none of the first 3 values exceeds (step 3)
+    assert r.values[0].note.startswith("insufficient-data:")
+    assert [v.after_decision for v in r.values] == [False] * 4
+    res = evaluate(spec, [short, *good[:2]], created="t")
+    r = res.requirements[0]
     assert (r.verdict, r.reason) == ("undecided", "insufficient-data")
-    assert r.next.endswith(
-        "or measure 2 more profiles where the highest values are expected (ISO 4288)"
+    assert r.next == (
+        "measurement 1: trace 3 mm is shorter than the 5.6 mm needed for 5 × λc 0.8 mm plus "
+        "run-in and run-out; measure again with a trace of at least 5.6 mm; "
+        "measure 1 more profile where the highest values are expected (ISO 4288)"
     )
-    # nonconforming whatever the unknown value is (3 exceed)
+    # nonconforming: 3 exceed, the unknown one cannot change it
     bad = [sine(amplitude_for_ra(1.0), name=f"q{i}") for i in range(3)]
     assert evaluate(spec, [short, *bad], created="t").verdict == "nonconforming"
+
+
+def test_unknown_member_of_a_fixed_sample_decides_when_it_matters(tmp_path):
+    # a sample fixed in advance (ISO 4288:1996 5.2, 16 % of all): 1 of 12 exceeds, the
+    # unevaluated 12th could make it 2 of 12 = 16.7 %
+    spec = write_spec(tmp_path, '- "Ra 0.8"\n', "sampling: fixed\n")
+    good = [sine(amplitude_for_ra(0.64), name=f"p{i}") for i in range(10)]
+    high = sine(amplitude_for_ra(1.0), name="high")
+    short = sine(1.0, points=6000, name="short")
+    r = evaluate(spec, [high, *good, short], created="t").requirements[0]
+    assert (r.verdict, r.reason, r.sampling) == ("undecided", "insufficient-data", "fixed")
+    r = evaluate(spec, [high, *good, good[0]], created="t").requirements[0]
+    assert r.verdict == "conforming"
+
+
+def test_values_after_the_decision_are_shown_not_counted(tmp_path):
+    # ISO 4288:1996 5.2: 3 of 3 over the limit decide; the later values within it do not count
+    spec = write_spec(tmp_path, '- "Ra 0.8"\n')
+    bad = [sine(amplitude_for_ra(1.0), name=f"q{i}") for i in range(3)]
+    good = [sine(amplitude_for_ra(0.4), name=f"p{i}") for i in range(16)]
+    res = evaluate(spec, [*bad, *good], created="t")
+    r = res.requirements[0]
+    assert r.verdict == "nonconforming"
+    assert [v.after_decision for v in r.values] == [False] * 3 + [True] * 16
+    assert "3 of the first 3 values exceed" in r.explanation
+    assert "16 values after the decision, not counted" in r.explanation
+    assert res.to_dict()["requirements"][0]["values"][3]["after_decision"] is True
+    # the same values as a fixed sample: 3 of 19 = 15.8 % exceed
+    fixed = write_spec(tmp_path, '- "Ra 0.8"\n', "sampling: fixed\n")
+    assert evaluate(fixed, [*bad, *good], created="t").verdict == "conforming"
 
 
 def test_values_per_section(tmp_path):

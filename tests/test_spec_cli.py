@@ -55,6 +55,21 @@ def test_explain_prints_each_setting_with_its_source(tmp_path, capsys):
         "Part KFP-2041 rev. D, surface: seal seat\nSupplier: Ardent Precision Grinding\n"
     )
     assert "The governing drawing, the contract and the applicable standards take precedence" in out
+    # ISO 4288:1996 5.2: the step procedure is sequential
+    assert (
+        "16 % rule taken as: the step procedure (ISO 4288 5.2) — decided at the first decisive "
+        "step; values measured after it are listed but cannot reverse it\n" in out
+    )
+
+
+def test_explain_states_a_fixed_sample(tmp_path, capsys):
+    path = write(tmp_path, "requirements:\n  - Ra 0.8\nsampling: fixed\n")
+    assert main(["explain", path]) == 0
+    out = capsys.readouterr().out
+    assert "16 % rule taken as: a fixed sample (ISO 4288 5.2) — at most 16 % of all values" in out
+    path = write(tmp_path, "requirements:\n  - Ra max 0.8\n")
+    assert main(["explain", path]) == 0
+    assert "16 % rule taken as" not in capsys.readouterr().out  # no 16 % requirement
 
 
 def test_explain_sentence(tmp_path):

@@ -180,17 +180,18 @@ def _rebuilt_with(record: Path, replace: dict[str, bytes]) -> bytes:
 def test_replaced_profile_resigned_fails_recomputation(world, tmp_path, capsys):
     """A different profile under the old name, signed with the genuine key: hashes and the
     recomputed result disagree with the recorded result."""
-    pdf = _rebuilt_with(world["unsigned"], {"m2.csv": world["other"].read_bytes()})
+    pdf = _rebuilt_with(world["unsigned"], {"m1.csv": world["other"].read_bytes()})
     resigned = sign_pdf(pdf, p12_path=world["key"].p12_path, passphrase=PASS)
     bad = tmp_path / "resigned.pdf"
     bad.write_bytes(resigned)
     r = verify_report(bad, trust=[world["key"].pem_path])
     assert r.signature.intact and r.signature.whole_file and r.signature.trusted
     assert not r.ok and not r.equal
-    assert any("m2.csv (measurement 2) is not the one evaluated" in p for p in r.problems)
-    # Ra of the replacement is 0.95 µm > 0.8 µm: the recomputed verdict changes
+    assert any("m1.csv (measurement 1) is not the one evaluated" in p for p in r.problems)
+    # Ra of the replacement is 0.95 µm > 0.8 µm: the first value no longer decides at step 1
+    # (ISO 4288 5.2), so the recomputed verdict changes
     assert r.recomputed_verdict != "conforming"
-    assert any(d.startswith("measurements[1].sha256") for d in r.differences)
+    assert any(d.startswith("measurements[0].sha256") for d in r.differences)
     assert main(["verify", str(bad)]) == 1
     out = capsys.readouterr().out
     assert "DIFFERS from the record" in out and "  differs: " in out

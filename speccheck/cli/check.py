@@ -50,17 +50,22 @@ def _num(x: float | None) -> str:
 
 
 def _values_text(req: Any) -> str:
-    out = []
+    counted: list[str] = []
+    late: list[str] = []
     for v in req.values:
+        target = late if v.after_decision else counted
         if v.value is None:
-            out.append("not evaluated")
+            target.append("not evaluated")
             continue
         beyond = "below" if req.lower is not None and v.value < req.lower else "exceeding"
         mark = f" ({beyond})" if v.counts_as == "exceeding" else ""
         if v.zone == "uncertain":  # within ±U of a limit: say how the decision rule counted it
             mark = f" (±U, counted {'exceeding' if v.counts_as == 'exceeding' else 'within'})"
-        out.append(f"{_num(v.value)}{mark}")
-    return ", ".join(out) or "none"
+        target.append(f"{_num(v.value)}{mark}")
+    text = ", ".join(counted) or "none"
+    if late:  # ISO 4288 5.2: measured after the step procedure had decided, not counted
+        text += "; after the decision: " + ", ".join(late)
+    return text
 
 
 def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:

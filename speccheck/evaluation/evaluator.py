@@ -48,7 +48,7 @@ from speccheck.evaluation.result import (
     ValueRecord,
     Verdict,
 )
-from speccheck.evaluation.rules import RuleOutcome, apply_rule, combine_limits
+from speccheck.evaluation.rules import RuleOutcome, Sampling, apply_rule, combine_limits
 
 if TYPE_CHECKING:
     from speccheck.parameters.compute import InsufficientData, ParameterSet
@@ -233,7 +233,7 @@ def _sides(req: Requirement) -> list[tuple[Side, float]]:
 
 
 def _judge(
-    req: Requirement, values: list[_Value], decision_rule: DecisionRule
+    req: Requirement, values: list[_Value], decision_rule: DecisionRule, sampling: Sampling
 ) -> tuple[RuleOutcome, list[RuleOutcome]]:
     outcomes = []
     for side, limit in _sides(req):
@@ -250,15 +250,26 @@ def _judge(
             for v in values
         ]
         first_low: bool | None = False
-        if side == "upper" and values and values[0].value is not None:
+        # the 70 % step looks at the first value: the first one evaluated in the sequential
+        # procedure (a measurement that gave no value is not a step), else the first given
+        first = values[0] if values else None
+        if sampling == "sequential":
+            first = next((v for v in values if v.value is not None), None)
+        if side == "upper" and first is not None and first.value is not None:
             first_low = at_most_70_percent(
-                values[0].value,
+                first.value,
                 limit=limit,
                 decision_rule=decision_rule,
                 uncertainty=req.uncertainty,
             )
         outcomes.append(
-            apply_rule(req.rule, flags, first_at_most_70pct=first_low, shortcut=side == "upper")
+            apply_rule(
+                req.rule,
+                flags,
+                first_at_most_70pct=first_low,
+                shortcut=side == "upper",
+                sampling=sampling,
+            )
         )
     return combine_limits(outcomes), outcomes
 
@@ -291,7 +302,7 @@ def _further_text(n: int, per_section: bool, sections: int) -> str:
 def _requirement_result(
     spec: LoadedSpec, req: Requirement, cond: Conditions, values: list[_Value]
 ) -> RequirementResult:
-    outcome, per_side = _judge(req, values, req.decision_rule)
+    outcome, per_side = _judge(req, values, req.decision_rule, spec.sampling)
     verdict: Verdict = outcome.verdict
     u = req.uncertainty
     hinges = False
@@ -331,12 +342,18 @@ def _requirement_result(
             )
         )
     if u is not None and in_range:
-        low, _ = _judge(req, values, "guarded-acceptance")  # uncertainty range counted exceeding
-        high, _ = _judge(req, values, "guarded-rejection")  # uncertainty range counted within
+        # uncertainty range counted exceeding, then counted within
+        low, _ = _judge(req, values, "guarded-acceptance", spec.sampling)
+        high, _ = _judge(req, values, "guarded-rejection", spec.sampling)
         hinges = low.verdict != high.verdict
 
+    late = _mark_after_decision(records, outcome.decided_at)
     if req.rule == "16%":
-        rule_text = "16 % rule (ISO 4288 5.2)"
+        rule_text = (
+            "16 % rule (ISO 4288 5.2, step procedure)"
+            if spec.sampling == "sequential"
+            else "16 % rule (ISO 4288 5.2, fixed sample)"
+        )
     elif spec.convention == "asme":
         rule_text = "maximum (ASME Y14.36: a single value is a maximum)"
     else:
@@ -355,7 +372,7 @@ def _requirement_result(
             f"; U = {_fmt(u)}{_unit_text(req.unit)}, {ILAC_G8_NAMES[req.decision_rule]}"
             f", {in_range} value{'s' if in_range != 1 else ''} in the uncertainty range"
         )
-    explanation += "."
+    explanation += _after_decision_text(late) + "."
 
     reason: str | None = None
     next_step: str | None = None
@@ -376,6 +393,13 @@ def _requirement_result(
                 parts.append(f"or measure {more} {_where_text(req)} (ISO 4288)")
         else:
             reason = "more-measurements"
+            by_measurement = {}
+            for v in unknowns:  # sequential procedure: they gave no value and are not steps
+                assert v.unknown is not None
+                by_measurement.setdefault(v.measurement, v.unknown)
+            for i, unk in by_measurement.items():
+                reason = reason if reason != "more-measurements" else unk.status
+                parts.append(f"measurement {i + 1}: {unk.note}; {unk.action}")
             more = _further_text(outcome.further or 1, per_section, req.sections)
             parts.append(f"measure {more} {_where_text(req)} (ISO 4288)")
         next_step = "; ".join(parts)
@@ -432,7 +456,28 @@ def _requirement_result(
         # Diagnostics (isolated features, influence of few points) are attached in
         # _attach_diagnostics below; this list stays empty until then.
         diagnostics=[],
+        sampling=spec.sampling,
     )
+
+
+def _mark_after_decision(records: list[ValueRecord], decided_at: int | None) -> list[ValueRecord]:
+    """Flag the values after the deciding one (ISO 4288 5.2 step procedure); return them."""
+    if decided_at is None:
+        return []
+    for r in records[decided_at:]:
+        r.after_decision = True
+    return records[decided_at:]
+
+
+def _after_decision_text(late: list[ValueRecord]) -> str:
+    if not late:
+        return ""
+    n = len(late)
+    text = f"; {n} value{'s' if n != 1 else ''} after the decision, not counted"
+    beyond = sum(1 for r in late if r.counts_as == "exceeding")
+    if beyond:
+        text += f" ({beyond} of them exceed{'s' if beyond == 1 else ''} a limit)"
+    return text
 
 
 def _attach_diagnostics(
@@ -625,6 +670,7 @@ def evaluate(
             "decision_rule": spec.decision_rule,
             "value_per": spec.value_per,
             "isolated_features": spec.isolated_features,
+            "sampling": spec.sampling,
         },
         software={"name": "speccheck", "version": __version__},
         created=created or datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),

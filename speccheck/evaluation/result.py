@@ -40,6 +40,8 @@ class ValueRecord:
     counts_as: Literal["within", "exceeding"] | None = None  # after the decision rule
     section: int | None = None  # set when values are taken per section
     note: str | None = None
+    # measured after the step procedure had decided (ISO 4288 5.2): shown, not counted
+    after_decision: bool = False
 
 
 @dataclass
@@ -61,6 +63,8 @@ class RequirementResult:
         default_factory=dict
     )  # lambda_c_mm, lambda_s_um, sections, ...
     diagnostics: list[dict[str, Any]] = field(default_factory=list)
+    # 16 % rule: "sequential" (step procedure, decided at the first decisive step) or "fixed"
+    sampling: Literal["sequential", "fixed"] = "sequential"
 
 
 @dataclass

@@ -5,36 +5,41 @@ a decision rule (:mod:`speccheck.evaluation.decision`) as *exceeding* its limit 
 exceeding* (False), or *unknown* (None: the measurement could not be evaluated). "Exceeding" is
 the side-neutral word: above an upper limit, below a lower limit.
 
-The 16 % rule as applied here (ISO 4288:1996 clause 5.2, step procedure for an upper limit;
-the clause numbers 5.2 and 5.3 are from memory):
+The 16 % rule has two forms, chosen by the specification (``sampling``):
 
-====  =====================================================  ===================
-step  the surface conforms when                              values needed
-====  =====================================================  ===================
-1     the first value is at most 70 % of the limit           1
-3     none of the values exceeds                             3
-6     at most 1 value exceeds                                6
-12    at most 2 values exceed                                12
-> 12  at most 16 % of all values exceed (100·e ≤ 16·n)       all of them, n > 12
-====  =====================================================  ===================
+**sequential** (the default): the step procedure of ISO 4288:1996 5.2 (the clause numbers 5.2
+and 5.3 are from memory). Values are taken in measurement order and the verdict is taken at the
+first step that decides:
 
-Every measured value counts: a step is met only when the exceedances among *all* values given
-are within that step's allowance (values measured beyond a step count towards the next one).
-This is never more lenient than stopping at the first step met, and a technician who measured
-more than required cannot have an exceeding value ignored. With at most 12 values the result is
-*nonconforming* as soon as no further values could meet a step (more than 2 exceed), otherwise
-*undecided* with the smallest number of further values that could still lead to conformity.
-More than 12 values are judged as one sample by the 16 % criterion (ISO 4288:1996 5.2 allows a
-larger sample, e.g. 25 values of which 4 may exceed: from memory) and are always decided.
+====  =================================================  ===================================
+step  conforming when                                    nonconforming when
+====  =================================================  ===================================
+1     the first value is at most 70 % of the limit       —
+3     none of the first 3 values exceeds                 —
+6     at most 1 of the first 6 values exceeds            —
+12    at most 2 of the first 12 values exceed            more than 2 of the first 12 exceed
+====  =================================================  ===================================
+
+More than 2 exceeding values among the first 12 can meet no step, so the procedure is decided
+*nonconforming* at the value that makes the third exceedance, whatever follows. Values after the
+deciding one are *after the decision*: they are reported but cannot reverse it (3 of 3 over the
+limit followed by 16 within stays nonconforming). Before a decision the result is *undecided*,
+with the smallest number of further values that could still lead to conformity.
+
+**fixed**: a sample fixed in advance, judged at once by the 16 % criterion: at most 16 % of all
+values exceed (100·e ≤ 16·n, exact integers). Only for 12 or more values; fewer are undecided.
 
 The 70 % shortcut is used only for upper limits. For a lower limit ISO 4288 states the mirror
 image of the rule; a mirrored 70 % shortcut (value ≥ limit / 0.7? ≥ 1.3 × limit?) is not
 stated in any text we could check, so lower limits start at the 3-value step (conservative).
 
-Unknown values: the rules are monotone (another exceeding value never improves the verdict), so
-the verdict that holds with every unknown counted as exceeding *and* with every unknown counted
-as not exceeding holds whatever the unknowns are; if the two differ the verdict is undecided
-and the unknowns decide it.
+Unknown values (measurements that could not be evaluated) are not steps of the sequential
+procedure: they gave no value, and measuring again adds a value at the end of the sequence; it
+cannot take an earlier place. For the max-rule and a fixed sample every member counts: those
+rules are monotone (another exceeding value never improves the verdict), so the verdict that
+holds with every unknown counted as exceeding *and* with every unknown counted as not exceeding
+holds whatever the unknowns are; if the two differ the verdict is undecided and the unknowns
+decide it.
 """
 
 from __future__ import annotations
@@ -47,15 +52,23 @@ from speccheck.evaluation.result import Verdict
 
 __all__ = [
     "RuleOutcome",
+    "Sampling",
     "SIXTEEN_PERCENT_STEPS",
+    "FIXED_SAMPLE_MIN",
     "sixteen_percent_rule",
     "max_rule",
     "apply_rule",
     "combine_limits",
 ]
 
+Sampling = Literal["sequential", "fixed"]
+
 # ISO 4288:1996 5.2: (number of values, largest number allowed to exceed)
 SIXTEEN_PERCENT_STEPS: tuple[tuple[int, int], ...] = ((3, 0), (6, 1), (12, 2))
+# the last step of the procedure: more exceedances than this among its values never conform
+_LAST_STEP, _LAST_ALLOWED = SIXTEEN_PERCENT_STEPS[-1]
+# a fixed sample is judged by the 16 % proportion only from this many values on
+FIXED_SAMPLE_MIN = 12
 
 _RANK = {"nonconforming": 0, "undecided": 1, "conforming": 2}
 
@@ -82,6 +95,10 @@ class RuleOutcome:
         True when the unknown values alone keep the verdict open.
     step:
         In words, the step that decided (or the state of the procedure).
+    decided_at:
+        Sequential procedure only: how many values (from the first) the decision rests on; the
+        values after them are *after the decision* and did not count. None when every value
+        counts (max-rule, fixed sample) or nothing is decided yet.
     """
 
     verdict: Verdict
@@ -91,39 +108,52 @@ class RuleOutcome:
     further: int | None = None
     unknown_decisive: bool = False
     step: str = ""
+    decided_at: int | None = None
 
 
-def _sixteen_known(
+def _sequential_known(
     exceeding: Sequence[bool], first_at_most_70pct: bool, shortcut: bool
 ) -> RuleOutcome:
     n = len(exceeding)
-    e = sum(1 for x in exceeding if x)
-    if n > 12:
-        # ISO 4288:1996 5.2, more than 12 values: at most 16 % of all exceed (exact integers)
-        if 100 * e <= 16 * n:
-            return RuleOutcome("conforming", n, e, step=f"{e} of {n} values exceed (at most 16 %)")
-        return RuleOutcome("nonconforming", n, e, step=f"{e} of {n} values exceed (more than 16 %)")
-    if shortcut and n >= 1 and first_at_most_70pct and e == 0:
-        return RuleOutcome("conforming", n, e, step="first value at most 70 % of the limit")
-    for k, allowed in SIXTEEN_PERCENT_STEPS:
-        if n >= k and e <= allowed:
+    allowed_at = dict(SIXTEEN_PERCENT_STEPS)
+    e = 0
+    for m in range(1, min(n, _LAST_STEP) + 1):
+        e += bool(exceeding[m - 1])
+        if m == 1 and shortcut and first_at_most_70pct and not exceeding[0]:
             return RuleOutcome(
-                "conforming", n, e, step=f"{e} of {n} values exceed (step {k}: at most {allowed})"
+                "conforming", n, e, step="first value at most 70 % of the limit", decided_at=1
             )
+        allowed = allowed_at.get(m)
+        if allowed is not None and e <= allowed:
+            step = f"{e} of the first {m} values exceed (step {m}: at most {allowed})"
+            return RuleOutcome("conforming", n, e, step=step, decided_at=m)
+        if e > _LAST_ALLOWED:
+            step = (
+                f"{e} of the first {m} values exceed (more than {_LAST_ALLOWED} of "
+                f"{_LAST_STEP} can never conform)"
+            )
+            return RuleOutcome("nonconforming", n, e, step=step, decided_at=m)
+    # fewer values than the last step and nothing decided yet (then e <= _LAST_ALLOWED)
     candidates = [k - n for k, allowed in SIXTEEN_PERCENT_STEPS if k > n and e <= allowed]
     if shortcut and n == 0:
         candidates.append(1)
-    if not candidates:
-        return RuleOutcome(
-            "nonconforming",
-            n,
-            e,
-            step=f"{e} of {n} values exceed (more than 2 of 12 can never conform)",
-        )
     further = min(candidates)
     return RuleOutcome(
         "undecided", n, e, further=further, step=f"{e} of {n} values exceed; {further} more needed"
     )
+
+
+def _fixed_known(exceeding: Sequence[bool], _first: bool) -> RuleOutcome:
+    n = len(exceeding)
+    e = sum(1 for x in exceeding if x)
+    if n < FIXED_SAMPLE_MIN:
+        more = FIXED_SAMPLE_MIN - n
+        step = f"fixed sample of {n} values, at least {FIXED_SAMPLE_MIN} needed; {more} more"
+        return RuleOutcome("undecided", n, e, further=more, step=step)
+    # ISO 4288:1996 5.2: at most 16 % of all values exceed (exact integers)
+    if 100 * e <= 16 * n:
+        return RuleOutcome("conforming", n, e, step=f"{e} of {n} values exceed (at most 16 %)")
+    return RuleOutcome("nonconforming", n, e, step=f"{e} of {n} values exceed (more than 16 %)")
 
 
 def _worst_best(
@@ -140,8 +170,18 @@ def _worst_best(
     first_opt = True if (exceeding and exceeding[0] is None) else bool(first_at_most_70pct)
     opt = judge(opt_flags, first_opt)
     if pess.verdict == opt.verdict:
+        # decided whatever the unknowns are once both extremes are decided
+        both = (pess.decided_at, opt.decided_at)
+        decided_at = None if None in both else max(pess.decided_at or 0, opt.decided_at or 0)
         return RuleOutcome(
-            pess.verdict, pess.values, opt.exceeding, unknown, pess.further, False, pess.step
+            pess.verdict,
+            pess.values,
+            opt.exceeding,
+            unknown,
+            pess.further,
+            False,
+            pess.step,
+            decided_at,
         )
     return RuleOutcome(
         "undecided",
@@ -159,17 +199,22 @@ def sixteen_percent_rule(
     *,
     first_at_most_70pct: bool | None = False,
     shortcut: bool = True,
+    sampling: Sampling = "sequential",
 ) -> RuleOutcome:
-    """The 16 % rule by the step procedure (ISO 4288:1996 5.2; ISO 1302:2002 default rule).
+    """The 16 % rule, by the step procedure or on a fixed sample (ISO 4288:1996 5.2).
 
     Parameters
     ----------
     exceeding:
         Per value in measurement order: True exceeding, False not, None unknown.
     first_at_most_70pct:
-        Whether the first value is at most 70 % of the limit (after the decision rule).
+        Whether the first value is at most 70 % of the limit (after the decision rule); in the
+        sequential procedure, the first value that could be evaluated.
     shortcut:
         Whether the 70 % step applies (upper limits: yes; lower limits: no, see module notes).
+    sampling:
+        ``"sequential"``: decided at the first decisive step, later values do not count;
+        ``"fixed"``: the 16 % proportion over all values (12 or more).
 
     Returns
     -------
@@ -177,14 +222,46 @@ def sixteen_percent_rule(
 
     Notes
     -----
-    See the module docstring for the table of steps and how all measured values count.
+    See the module docstring for the table of steps.
 
     References
     ----------
-    ISO 4288:1996 clause 5.2 (rules for comparing measured values with tolerance limits).
+    ISO 4288:1996 clause 5.2 (rules for comparing measured values with tolerance limits);
+    ISO 1302:2002 (the 16 % rule is the default rule of a drawing indication).
     """
-    return _worst_best(
-        lambda flags, first: _sixteen_known(flags, first, shortcut), exceeding, first_at_most_70pct
+    if sampling == "fixed":
+        return _worst_best(_fixed_known, exceeding, first_at_most_70pct)
+    if sampling != "sequential":
+        raise ValueError(f"sampling must be 'sequential' or 'fixed', got {sampling!r}")
+    return _sequential(exceeding, bool(first_at_most_70pct), shortcut)
+
+
+def _sequential(
+    exceeding: Sequence[bool | None], first_at_most_70pct: bool, shortcut: bool
+) -> RuleOutcome:
+    """The step procedure on the values that could be evaluated, in measurement order.
+
+    A measurement that could not be evaluated gave no value: it is not a step of the procedure
+    (measuring again adds a value at the end, it cannot replace an earlier one). ``decided_at``
+    is translated back to a position in ``exceeding``.
+    """
+    positions = [i for i, x in enumerate(exceeding) if x is not None]
+    known = [bool(exceeding[i]) for i in positions]
+    out = _sequential_known(known, first_at_most_70pct, shortcut)
+    unknown = len(exceeding) - len(known)
+    decided_at = None if out.decided_at is None else positions[out.decided_at - 1] + 1
+    step = out.step
+    if unknown:
+        step += f"; {unknown} measurement(s) gave no value"
+    return RuleOutcome(
+        out.verdict,
+        len(exceeding),
+        out.exceeding,
+        unknown,
+        out.further,
+        False,
+        step,
+        decided_at,
     )
 
 
@@ -224,11 +301,15 @@ def apply_rule(
     *,
     first_at_most_70pct: bool | None = False,
     shortcut: bool = True,
+    sampling: Sampling = "sequential",
 ) -> RuleOutcome:
     """Apply ``rule`` ("16%" or "max") to per-value exceedance flags of one limit."""
     if rule == "16%":
         return sixteen_percent_rule(
-            exceeding, first_at_most_70pct=first_at_most_70pct, shortcut=shortcut
+            exceeding,
+            first_at_most_70pct=first_at_most_70pct,
+            shortcut=shortcut,
+            sampling=sampling,
         )
     if rule == "max":
         return max_rule(exceeding)
@@ -240,7 +321,8 @@ def combine_limits(outcomes: Sequence[RuleOutcome]) -> RuleOutcome:
 
     Conforming only if every limit conforms; nonconforming if any limit is; otherwise
     undecided, needing as many further values as the most demanding limit (a further value that
-    exceeds neither limit counts towards both).
+    exceeds neither limit counts towards both). A conforming requirement is decided once every
+    limit is; a nonconforming one at the first limit that decided so.
     """
     if not outcomes:
         raise ValueError("no outcomes to combine")
@@ -260,4 +342,15 @@ def combine_limits(outcomes: Sequence[RuleOutcome]) -> RuleOutcome:
         further,
         any(o.unknown_decisive for o in undecided) if worst.verdict == "undecided" else False,
         "; ".join(o.step for o in outcomes),
+        _combined_decision_point(worst.verdict, outcomes),
     )
+
+
+def _combined_decision_point(verdict: Verdict, outcomes: Sequence[RuleOutcome]) -> int | None:
+    if verdict == "nonconforming":
+        points = [o.decided_at for o in outcomes if o.verdict == "nonconforming"]
+        return None if None in points else min(p for p in points if p is not None)
+    if verdict == "conforming":
+        points = [o.decided_at for o in outcomes]
+        return None if None in points else max(p for p in points if p is not None)
+    return None

@@ -354,8 +354,10 @@ def build_view(
     for i, req in enumerate(result.requirements, start=1):
         rows = []
         exceeding = 0
+        late = sum(1 for v in req.values if getattr(v, "after_decision", False))
         for v in req.values:
-            if v.counts_as == "exceeding":
+            after = bool(getattr(v, "after_decision", False))
+            if v.counts_as == "exceeding" and not after:
                 exceeding += 1
             rows.append(
                 ValueRow(
@@ -367,11 +369,17 @@ def build_view(
                     counts_as={"within": "within", "exceeding": "EXCEEDING"}.get(
                         v.counts_as or "", "—"
                     ),
-                    note=v.note or "",
+                    note="; ".join(
+                        n for n in (v.note, "after the decision, not counted" if after else "") if n
+                    ),
                 )
             )
-        counted = sum(1 for v in req.values if v.value is not None)
+        counted = sum(
+            1 for v in req.values if v.value is not None and not getattr(v, "after_decision", 0)
+        )
         tally = f"{counted} value{'s' if counted != 1 else ''}, {exceeding} exceeding"
+        if late:
+            tally += f"; {late} after the decision, not counted"
         unc = (
             f"U = {plain_number(req.uncertainty, req.unit)} (k = 2)"
             if req.uncertainty is not None

@@ -29,6 +29,18 @@ _CONVENTION_WORDS = {
 }
 
 
+_SAMPLING_WORDS = {
+    "sequential": (
+        "the step procedure (ISO 4288 5.2) — decided at the first decisive step; values "
+        "measured after it are listed but cannot reverse it"
+    ),
+    "fixed": (
+        "a fixed sample (ISO 4288 5.2) — at most 16 % of all values may exceed; at least 12 "
+        "values, chosen in advance"
+    ),
+}
+
+
 def _num(value: float, unit: str) -> str:
     if unit == "%":
         return f"{value:g} %"
@@ -107,6 +119,8 @@ def explain_spec(spec: LoadedSpec) -> str:
         else "one value per section"
     )
     lines.append(f"Measured values: {per}")
+    if any(r.rule == "16%" for r in spec.requirements):
+        lines.append(f"16 % rule taken as: {_SAMPLING_WORDS[spec.sampling]}")
     iso = (
         "reported beside the verdict"
         if spec.isolated_features == "report"

@@ -182,5 +182,6 @@ def check_spec(path: str | Path) -> SpecCheck:
         isolated_features=model.diagnostics.isolated_features,
         notes=model.notes,
         requirements=tuple(requirements),
+        sampling=model.sampling,
     )
     return result

@@ -127,6 +127,13 @@ class SpecFile(_Strict):
         description="Expanded uncertainty U (k = 2) per parameter, with unit: {'Ra': '0.05um'}.",
     )
     diagnostics: Diagnostics = Field(default_factory=lambda: Diagnostics())
+    sampling: Literal["sequential", "fixed"] = Field(
+        default="sequential",
+        description=(
+            "16 % rule: 'sequential' (ISO 4288 step procedure, decided at the first decisive "
+            "step) or 'fixed' (a sample of 12 or more values fixed in advance, 16 % of all)."
+        ),
+    )
     notes: str | None = None
 
 

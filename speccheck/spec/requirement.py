@@ -65,3 +65,5 @@ class LoadedSpec:
     isolated_features: Literal["report", "undecided"]
     notes: str | None
     requirements: tuple[Requirement, ...]
+    # how the 16 % rule takes its values: the ISO 4288 step procedure, or a sample fixed in advance
+    sampling: Literal["sequential", "fixed"] = "sequential"
