@@ -7,6 +7,7 @@ the place inside it (``line 12``, ``line 3, col 7``, ``key requirements[0].limit
 
 from __future__ import annotations
 
+import errno
 import re
 from enum import IntEnum
 
@@ -17,6 +18,8 @@ __all__ = [
     "SpecError",
     "ReportError",
     "RecordsError",
+    "FileAccessError",
+    "os_error",
 ]
 
 
@@ -84,3 +87,35 @@ class ReportError(SpeccheckError):
 
 class RecordsError(SpeccheckError):
     """A records database that cannot be opened or written."""
+
+
+class FileAccessError(SpeccheckError):
+    """A file or folder that cannot be read or written (full disk, permissions, ...)."""
+
+
+_OS_REASONS = {
+    errno.ENOSPC: "no space left on the device",
+    errno.EDQUOT: "disk quota exceeded",
+    errno.EFBIG: "file too large for the file system or the process's file size limit",
+    errno.EACCES: "permission denied",
+    errno.EPERM: "permission denied",
+    errno.EROFS: "read-only file system",
+    errno.EISDIR: "is a folder, not a file",
+    errno.ENOTDIR: "a part of the path is not a folder",
+    errno.ENOENT: "no such file or folder",
+    errno.ENAMETOOLONG: "file name too long",
+    errno.EIO: "input/output error of the device",
+}
+
+
+def os_error(
+    exc: OSError, *, path: str | None = None, doing: str = "cannot access"
+) -> FileAccessError:
+    """The one-line error for an operating-system failure on ``path``.
+
+    ``doing`` says what failed (``"cannot write"``, ``"cannot read"``); the reason is named in
+    plain words for the common cases (a full disk says "no space left on the device").
+    """
+    reason = _OS_REASONS.get(exc.errno or -1) or exc.strerror or type(exc).__name__
+    name = path if path is not None else (exc.filename and str(exc.filename))
+    return FileAccessError(f"{doing}: {reason}", path=name or None)

@@ -7,6 +7,16 @@ import pytest
 from speccheck.cli.main import main
 
 
+@pytest.fixture(autouse=True)
+def internal_errors_fail(monkeypatch):
+    """Reaching the command line's "internal error" path fails the test with the traceback.
+
+    With SPECCHECK_DEBUG set, :func:`speccheck.cli.main.main` re-raises what it would report as
+    an internal error; subprocesses started by tests inherit it.
+    """
+    monkeypatch.setenv("SPECCHECK_DEBUG", "1")
+
+
 @pytest.fixture
 def run_cli(capsys):
     """Run ``speccheck ARGS``; returns (exit status, stdout, stderr)."""

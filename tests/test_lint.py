@@ -159,5 +159,5 @@ def test_unreadable_file(tmp_path, capsys):
     missing = tmp_path / "missing.yaml"
     assert main(["lint", str(missing)]) == 2
     assert capsys.readouterr().out.splitlines() == [
-        f"{missing}: cannot read the file: No such file or directory"
+        f"{missing}: file not found"
     ]

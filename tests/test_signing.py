@@ -110,7 +110,7 @@ def test_read_passphrase_file_env_none(tmp_path, monkeypatch):
     empty.write_bytes(b"\n")
     with pytest.raises(ReportError, match="the passphrase file is empty"):
         read_passphrase(empty)
-    with pytest.raises(ReportError, match="cannot read the passphrase file"):
+    with pytest.raises(ReportError, match="file not found"):
         read_passphrase(tmp_path / "missing")
 
 

@@ -109,7 +109,7 @@ def test_empty_file_and_not_a_mapping(tmp_path):
 
 def test_missing_file(tmp_path):
     p = tmp_path / "nope.yaml"
-    assert error_of(str(p)) == f"{p}: cannot read the file: No such file or directory"
+    assert error_of(str(p)) == f"{p}: file not found"
 
 
 # --- schema errors with file:line:col ----------------------------------------------------------

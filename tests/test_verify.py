@@ -223,7 +223,7 @@ def test_not_a_pdf_and_not_a_record_exit_2(world, tmp_path, capsys):
         "and manifest)\n"
     )
     missing = tmp_path / "nope.pdf"
-    with pytest.raises(ReportError, match="cannot read the file"):
+    with pytest.raises(ReportError, match="file not found"):
         verify_report(missing)
 
 

@@ -15,6 +15,7 @@ from typing import Any
 import click
 
 from speccheck.cli.options import (
+    InputPath,
     db_option,
     decimal_option,
     dx_option,
@@ -133,8 +134,8 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
 
 
 @click.command(name="check")
-@click.argument("spec", type=click.Path(dir_okay=False))
-@click.argument("profiles", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("spec", type=InputPath("specification"))
+@click.argument("profiles", nargs=-1, required=True, type=InputPath("profile"))
 @json_out_option()
 @format_option
 @dx_option

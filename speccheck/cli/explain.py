@@ -7,9 +7,11 @@ from __future__ import annotations
 
 import click
 
+from speccheck.cli.options import InputPath
+
 
 @click.command("explain")
-@click.argument("spec", type=click.Path(dir_okay=False))
+@click.argument("spec", type=InputPath("specification"))
 def command(spec: str) -> int:
     """Explain what each requirement of SPEC asks for, and where each setting came from.
 

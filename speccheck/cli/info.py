@@ -6,13 +6,13 @@ import json
 
 import click
 
-from speccheck.cli.options import decimal_option, dx_option, format_option, json_flag
+from speccheck.cli.options import InputPath, decimal_option, dx_option, format_option, json_flag
 
 __all__ = ["command"]
 
 
 @click.command(name="info")
-@click.argument("file", type=click.Path(dir_okay=False))
+@click.argument("file", type=InputPath("profile"))
 @format_option
 @dx_option
 @decimal_option

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import click
 
+from speccheck.cli.options import InputPath, OutputPath
 from speccheck.errors import ReportError
 
 PASSPHRASE_HELP = "File whose first line is the passphrase (else env SPECCHECK_PASSPHRASE)."
@@ -30,6 +31,7 @@ def command() -> None:
     "out",
     required=True,
     metavar="FILE.p12",
+    type=OutputPath("--out", allow_dash=False),
     help="Key file to write; the certificate goes to FILE.pem.",
 )
 @click.option(
@@ -41,7 +43,7 @@ def command() -> None:
 )
 @click.option(
     "--passphrase-file",
-    type=click.Path(dir_okay=False, path_type=Path),
+    type=InputPath("passphrase file", path_type=Path),
     default=None,
     help=PASSPHRASE_HELP,
 )

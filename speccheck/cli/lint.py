@@ -8,11 +8,12 @@ from __future__ import annotations
 
 import click
 
+from speccheck.cli.options import InputPath
 from speccheck.errors import ExitStatus
 
 
 @click.command("lint")
-@click.argument("specs", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("specs", nargs=-1, required=True, type=InputPath("specification"))
 def command(specs: tuple[str, ...]) -> int:
     """Find mistakes (exit 2) and risky choices (warnings, exit 0) in specification files.
 

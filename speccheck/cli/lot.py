@@ -7,6 +7,7 @@ import sys
 import click
 
 from speccheck.cli.options import (
+    InputPath,
     db_option,
     json_out_option,
     passphrase_file_option,
@@ -43,7 +44,7 @@ def _progress_callback():
 
 
 @click.command(name="lot")
-@click.argument("plan", type=click.Path(dir_okay=False))
+@click.argument("plan", type=InputPath("inspection plan"))
 @click.option(
     "--data",
     "data_dir",

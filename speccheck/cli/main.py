@@ -13,8 +13,9 @@ import sys
 
 import click
 
+from speccheck._atomic import output_session
 from speccheck._version import __version__
-from speccheck.errors import ExitStatus, SpeccheckError
+from speccheck.errors import ExitStatus, SpeccheckError, os_error
 
 # command name -> (module, one-line help shown by --help without importing the module)
 COMMANDS: dict[str, tuple[str, str]] = {
@@ -77,10 +78,20 @@ def cli() -> None:
     """
 
 
+def _run(argv: list[str] | None) -> int:
+    """Run one command in an output session: its files appear only if it does not fail."""
+    with output_session() as session:
+        rv = cli.main(args=argv, prog_name="speccheck", standalone_mode=False)
+        rv = 0 if rv is None else int(rv)
+        if rv != ExitStatus.ERROR:
+            session.commit()
+        return rv
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns (and, as a script, exits with) the exit status."""
     try:
-        rv = cli.main(args=argv, prog_name="speccheck", standalone_mode=False)
+        rv = _run(argv)
     except SpeccheckError as exc:
         click.echo(f"speccheck: error: {exc.one_line()}", err=True)
         rv = ExitStatus.ERROR
@@ -96,6 +107,9 @@ def main(argv: list[str] | None = None) -> int:
         msg = " ".join(exc.format_message().split())
         click.echo(f"speccheck: error: {msg}", err=True)
         rv = ExitStatus.ERROR
+    except OSError as exc:  # an I/O failure below a library call: still the file's problem
+        click.echo(f"speccheck: error: {os_error(exc, doing='cannot access').one_line()}", err=True)
+        rv = ExitStatus.ERROR
     except KeyboardInterrupt:
         click.echo("speccheck: interrupted", err=True)
         rv = ExitStatus.ERROR
@@ -107,8 +121,6 @@ def main(argv: list[str] | None = None) -> int:
             f"speccheck: internal error: {msg} (set SPECCHECK_DEBUG=1 for a traceback)", err=True
         )
         rv = ExitStatus.ERROR
-    if rv is None:
-        rv = 0
     if __name__ == "__main__" or argv is None:
         sys.exit(int(rv))
     return int(rv)

@@ -9,13 +9,57 @@ from typing import Any
 
 import click
 
+
+class InputPath(click.Path):
+    """A file the command reads; noted so that no output of the run may overwrite it."""
+
+    def __init__(self, role: str, **kwargs: Any):
+        super().__init__(**kwargs)  # folders are refused below, in speccheck's words
+        self.role = role
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> Any:
+        value = super().convert(value, param, ctx)
+        import os
+
+        from speccheck._atomic import note_input
+        from speccheck.errors import SpeccheckError
+
+        if os.path.isdir(value):
+            raise SpeccheckError(f"{self.role} is a folder, not a file", path=os.fspath(value))
+
+        note_input(value, self.role)
+        return value
+
+
+class OutputPath(click.Path):
+    """A file the command writes ('-' = standard output where the option allows it).
+
+    Claimed at once, so a clash with an input or another output is refused before any work.
+    """
+
+    def __init__(self, role: str, **kwargs: Any):
+        kwargs.setdefault("allow_dash", True)  # folders are refused by claim_output
+        super().__init__(**kwargs)
+        self.role = role
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> Any:
+        value = super().convert(value, param, ctx)
+        if value != "-":
+            from speccheck._atomic import claim_output
+
+            claim_output(value, self.role)
+        return value
+
+
 json_flag = click.option("--json", "as_json", is_flag=True, help="Print JSON instead of a table.")
 
 
 def json_out_option(
     help_: str = "Write the result as JSON to FILE ('-' for standard output).",
 ) -> Any:
-    return click.option("--json", "json_out", metavar="FILE", default=None, help=help_)
+    return click.option(
+        "--json", "json_out", metavar="FILE", default=None, type=OutputPath("--json"), help=help_
+    )
 
 
 format_option = click.option(
@@ -51,18 +95,29 @@ def write_json(obj: Any, dest: str) -> None:
         return
     from speccheck._atomic import atomic_write_text
 
-    atomic_write_text(Path(dest), text)
+    atomic_write_text(Path(dest), text, role="--json")
 
 
 report_option = click.option(
-    "--report", "report_out", metavar="OUT.pdf", default=None, help="Write the record as PDF."
+    "--report",
+    "report_out",
+    metavar="OUT.pdf",
+    default=None,
+    type=OutputPath("--report", allow_dash=False),
+    help="Write the record as PDF.",
 )
 sign_option = click.option(
-    "--sign", "sign_p12", metavar="KEY.p12", default=None, help="Sign the PDF with this key."
+    "--sign",
+    "sign_p12",
+    metavar="KEY.p12",
+    default=None,
+    type=InputPath("signing key --sign"),
+    help="Sign the PDF with this key.",
 )
 passphrase_file_option = click.option(
     "--passphrase-file",
     metavar="FILE",
+    type=InputPath("passphrase file"),
     default=None,
     help="File whose first line is the key's passphrase (else $SPECCHECK_PASSPHRASE).",
 )

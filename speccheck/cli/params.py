@@ -12,7 +12,14 @@ from typing import Any
 
 import click
 
-from speccheck.cli.options import cutoff_option, decimal_option, dx_option, format_option, json_flag
+from speccheck.cli.options import (
+    InputPath,
+    cutoff_option,
+    decimal_option,
+    dx_option,
+    format_option,
+    json_flag,
+)
 from speccheck.errors import ExitStatus, InputError, SpeccheckError
 
 __all__ = ["command"]
@@ -56,7 +63,7 @@ def _fmt(value: float | None) -> str:
 
 
 @click.command(name="params")
-@click.argument("file", type=click.Path(dir_okay=False))
+@click.argument("file", type=InputPath("profile"))
 @cutoff_option
 @click.option(
     "--ls",

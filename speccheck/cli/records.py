@@ -11,7 +11,7 @@ import json
 
 import click
 
-from speccheck.cli.options import db_option
+from speccheck.cli.options import OutputPath, db_option
 
 __all__ = ["command"]
 
@@ -81,12 +81,20 @@ def show(record_id: int, db: str | None) -> int:
 
 @command.command(name="export")
 @db_option
-@click.option("--csv", "csv_out", default=None, metavar="FILE", help="Write every record as CSV.")
+@click.option(
+    "--csv",
+    "csv_out",
+    default=None,
+    metavar="FILE",
+    type=OutputPath("--csv", allow_dash=False),
+    help="Write every record as CSV.",
+)
 @click.option(
     "--json",
     "json_out",
     default=None,
     metavar="FILE",
+    type=OutputPath("--json"),
     help="Write every record as JSON ('-': stdout).",
 )
 def export(db: str | None, csv_out: str | None, json_out: str | None) -> int:
@@ -140,7 +148,13 @@ def audit(db: str | None, archive: str | None, as_json: bool) -> int:
 @click.option(
     "--surface", default=None, help="Only this surface (lot surface name or spec surface)."
 )
-@click.option("--out", default=None, metavar="FILE.svg", help="Write the trend plot as SVG.")
+@click.option(
+    "--out",
+    default=None,
+    metavar="FILE.svg",
+    type=OutputPath("--out", allow_dash=False),
+    help="Write the trend plot as SVG.",
+)
 @click.option("--json", "as_json", is_flag=True, help="Print the values and indices as JSON.")
 def trend(
     db: str | None, part: str, parameter: str, surface: str | None, out: str | None, as_json: bool
@@ -154,7 +168,7 @@ def trend(
     with _open(db) as store:
         tr = collect_trend(store.list(part=part), part=part, parameter=parameter, surface=surface)
     if out:
-        atomic_write_text(Path(out), trend_svg(tr))
+        atomic_write_text(Path(out), trend_svg(tr), role="--out")
     if as_json:
         click.echo(json.dumps(tr.to_dict(), indent=2, ensure_ascii=False))
         return 0

@@ -10,7 +10,7 @@ import json
 
 import click
 
-from speccheck.cli.options import db_option
+from speccheck.cli.options import InputPath, OutputPath, db_option
 
 __all__ = ["command"]
 
@@ -65,7 +65,7 @@ def _print_table(d: dict) -> None:
     "--spec",
     "spec_path",
     required=True,
-    type=click.Path(dir_okay=False),
+    type=InputPath("specification --spec"),
     help="The revised specification; its part number selects the records.",
 )
 @click.option(
@@ -95,6 +95,7 @@ def _print_table(d: dict) -> None:
     "json_out",
     default=None,
     metavar="FILE",
+    type=OutputPath("--json"),
     help="Write the result as JSON ('-': stdout).",
 )
 @click.option(
@@ -102,6 +103,7 @@ def _print_table(d: dict) -> None:
     "report_out",
     default=None,
     metavar="FILE.pdf",
+    type=OutputPath("--report", allow_dash=False),
     help="Write a PDF summary with plots.",
 )
 def command(
@@ -141,7 +143,9 @@ def command(
     else:
         _print_table(d)
         if json_out:
-            atomic_write_text(Path(json_out), json.dumps(d, indent=2, ensure_ascii=False) + "\n")
+            atomic_write_text(
+                Path(json_out), json.dumps(d, indent=2, ensure_ascii=False) + "\n", role="--json"
+            )
     if report_out:
         from speccheck.replay.report import write_replay_report
 

@@ -12,6 +12,8 @@ from pathlib import Path
 
 import click
 
+from speccheck.cli.options import InputPath
+
 
 def _lines(r) -> list[str]:  # r: VerifyResult
     s = r.signature
@@ -48,12 +50,12 @@ def _lines(r) -> list[str]:  # r: VerifyResult
 
 
 @click.command("verify")
-@click.argument("report", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("report", type=InputPath("record", path_type=Path))
 @click.option(
     "--trust",
     "trust",
     multiple=True,
-    type=click.Path(dir_okay=False, path_type=Path),
+    type=InputPath("certificate --trust", path_type=Path),
     metavar="CERT.pem",
     help="Certificate the signer must chain to (repeatable).",
 )

@@ -59,10 +59,14 @@ def check_instrument(path: str | Path) -> tuple[LoadedInstrument | None, list[Sp
     from speccheck.spec.loader import _pydantic_errors, _sort_key
 
     p = str(path)
+    from speccheck._atomic import read_bounded
+    from speccheck.errors import SpeccheckError
+    from speccheck.spec._yaml import MAX_SPEC_BYTES
+
     try:
-        raw = Path(path).read_bytes()
-    except OSError as exc:
-        return None, [SpecError(f"cannot read the file: {exc.strerror or exc}", path=p)]
+        raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="instrument file", error=SpecError)
+    except SpeccheckError as exc:
+        return None, [exc]
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:

@@ -190,10 +190,10 @@ def load_plan(path: str | Path) -> LoadedPlan:
     from speccheck.spec._yaml import load_yaml, where
 
     p = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except OSError as exc:
-        raise SpecError(f"cannot read the file: {exc.strerror or exc}", path=p) from None
+    from speccheck._atomic import note_input, read_bounded
+    from speccheck.spec._yaml import MAX_SPEC_BYTES
+
+    raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="inspection plan", error=SpecError)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -239,6 +239,7 @@ def load_plan(path: str | Path) -> LoadedPlan:
                 path=p,
                 where=where(line, col),
             )
+        note_input(spec_path, "specification")
         surfaces.append(PlanSurface(name, spec_path, s.spec, s.measurements))
 
     lot = model.lot.model_dump(exclude_none=True)
@@ -305,6 +306,8 @@ def find_part_files(plan: LoadedPlan, data_dir: str | Path) -> dict[str, dict[st
     """
     import glob
 
+    from speccheck._atomic import note_input
+
     root = Path(data_dir)
     if not root.is_dir():
         raise InputError("data folder does not exist", path=str(root))
@@ -319,6 +322,7 @@ def find_part_files(plan: LoadedPlan, data_dir: str | Path) -> dict[str, dict[st
             m = regex.match(rel)
             if m is None or not (root / hit).is_file():
                 continue
+            note_input(root / hit, "profile")
             found.setdefault(m.group("part_serial"), {}).setdefault(surface.name, []).append(
                 root / hit
             )

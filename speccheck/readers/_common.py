@@ -7,6 +7,7 @@ from pathlib import Path
 
 import numpy as np
 
+from speccheck._atomic import read_bounded
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
 
@@ -34,19 +35,12 @@ MAX_TEXT_BYTES = 1 << 30
 
 
 def read_source_bytes(path: str | Path, *, limit: int = MAX_TEXT_BYTES) -> tuple[bytes, str]:
-    """The exact bytes of ``path`` and their SHA-256 (hex); InputError if unreadable."""
-    p = Path(path)
-    if not p.exists():
-        raise InputError("file not found", path=str(path))
-    if p.is_dir():
-        raise InputError("is a folder, not a profile file", path=str(path))
-    try:
-        size = p.stat().st_size
-        if size > limit:
-            raise InputError(f"file is larger than {limit} bytes", path=str(path))
-        data = p.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot read the file ({exc.strerror or exc})", path=str(path)) from exc
+    """The exact bytes of ``path`` and their SHA-256 (hex); InputError if unreadable.
+
+    Folders, FIFOs and devices are refused before opening, and files larger than ``limit``
+    before reading (see :func:`speccheck._atomic.read_bounded`).
+    """
+    data = read_bounded(path, limit=limit, role="profile", error=InputError)
     return data, hashlib.sha256(data).hexdigest()
 
 

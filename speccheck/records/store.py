@@ -33,7 +33,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from speccheck._atomic import atomic_write_text
+from speccheck._atomic import atomic_write_text, claim_output, note_input
 from speccheck.errors import RecordsError
 
 __all__ = [
@@ -283,6 +283,10 @@ class RecordsStore:
 
             return PostgresStore.connect(str(path), create=create)
         p = Path(path)
+        if create:
+            claim_output(p, "records store")
+        else:
+            note_input(p, "records store")
         if not p.exists() and not create:
             raise RecordsError("no records store here (nothing has been recorded yet)", path=str(p))
         if not p.exists() and not p.parent.is_dir() and str(p.parent):

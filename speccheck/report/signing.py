@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from speccheck._atomic import atomic_write_bytes
+from speccheck._atomic import atomic_write_bytes, read_bounded, written_together
 from speccheck.errors import ReportError
 
 __all__ = [
@@ -31,6 +31,9 @@ __all__ = [
 PASSPHRASE_ENV = "SPECCHECK_PASSPHRASE"
 SIGNATURE_FIELD = "SpeccheckRecordSignature"
 MIN_PASSPHRASE_BYTES = 8
+# Largest key, certificate or passphrase file read (1 MiB; a PKCS#12 file with a long chain is a
+# few kB).
+MAX_KEY_BYTES = 1 << 20
 
 
 @dataclass(frozen=True)
@@ -75,12 +78,7 @@ def read_passphrase(passphrase_file: Path | None) -> bytes | None:
     """
     if passphrase_file is not None:
         path = Path(passphrase_file)
-        try:
-            data = path.read_bytes()
-        except OSError as exc:
-            raise ReportError(
-                f"cannot read the passphrase file ({exc.strerror or exc})", path=str(path)
-            ) from exc
+        data = read_bounded(path, limit=MAX_KEY_BYTES, role="passphrase file", error=ReportError)
         line = data.splitlines()[0] if data.splitlines() else b""
         if not line:
             raise ReportError("the passphrase file is empty", path=str(path), where="line 1")
@@ -193,16 +191,9 @@ def new_key(
         serialization.BestAvailableEncryption(passphrase),
     )
     pem = cert.public_bytes(serialization.Encoding.PEM)
-    atomic_write_bytes(out_p12, p12)
-    try:
-        atomic_write_bytes(pem_path, pem)
-    except BaseException:
-        out_p12.unlink(missing_ok=True)
-        raise
-    try:
-        os.chmod(out_p12, 0o600)
-    except OSError:  # e.g. a file system without permissions; the passphrase still protects it
-        pass
+    with written_together():  # both files or neither; the key readable by its owner only
+        atomic_write_bytes(out_p12, p12, role="signing key", private=True)
+        atomic_write_bytes(pem_path, pem, role="certificate")
     return KeyInfo(
         p12_path=out_p12,
         pem_path=pem_path,
@@ -216,12 +207,7 @@ def _load_p12(p12_path: Path, passphrase: bytes | None):
     from cryptography.hazmat.primitives.serialization import pkcs12
 
     p12_path = Path(p12_path)
-    try:
-        data = p12_path.read_bytes()
-    except OSError as exc:
-        raise ReportError(
-            f"cannot read the key file ({exc.strerror or exc})", path=str(p12_path)
-        ) from exc
+    data = read_bounded(p12_path, limit=MAX_KEY_BYTES, role="signing key", error=ReportError)
     if passphrase is None:
         raise ReportError(
             f"no passphrase for the key: give --passphrase-file FILE or set {PASSPHRASE_ENV}",

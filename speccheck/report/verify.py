@@ -42,6 +42,8 @@ __all__ = [
 RELATIVE_TOLERANCE = 1e-9
 ABSOLUTE_TOLERANCE = 1e-12
 MAX_DIFFERENCES = 20
+# Largest record read (1 GiB, the budget of one profile text file).
+MAX_RECORD_BYTES = 1 << 30
 
 
 @dataclass(frozen=True)
@@ -263,10 +265,9 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
         The file is not a PDF, or not a speccheck record (no attached result).
     """
     path = Path(path)
-    try:
-        data = path.read_bytes()
-    except OSError as exc:
-        raise ReportError(f"cannot read the file ({exc.strerror or exc})", path=str(path)) from exc
+    from speccheck._atomic import read_bounded
+
+    data = read_bounded(path, limit=MAX_RECORD_BYTES, role="record", error=ReportError)
     files = read_embedded_files(data, path=str(path))
     if RESULT_NAME not in files or MANIFEST_NAME not in files:
         raise ReportError(

@@ -18,7 +18,7 @@ from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
 
 from speccheck.errors import SpecError
 
-__all__ = ["Document", "KeyPath", "load_yaml", "where"]
+__all__ = ["MAX_SPEC_BYTES", "Document", "KeyPath", "load_yaml", "where"]
 
 KeyPath = tuple[str | int, ...]
 
@@ -34,6 +34,10 @@ _PLAIN_SCALARS = {
 _MAP = "tag:yaml.org,2002:map"
 _SEQ = "tag:yaml.org,2002:seq"
 _MAX_NODES = 100_000  # aliases can make a small file expand enormously
+
+# Largest specification, plan or instrument file read (1 MiB: a spec with a hundred
+# requirements and long notes is under 20 kB).
+MAX_SPEC_BYTES = 1 << 20
 
 
 def where(line: int, col: int) -> str:

@@ -12,8 +12,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from speccheck.errors import SpecError
-from speccheck.spec._yaml import Document, KeyPath, load_yaml, where
+from speccheck._atomic import read_bounded
+from speccheck.errors import SpeccheckError, SpecError
+from speccheck.spec._yaml import MAX_SPEC_BYTES, Document, KeyPath, load_yaml, where
 from speccheck.spec.models import SpecFile, model_at
 from speccheck.spec.requirement import LoadedSpec, Requirement
 
@@ -130,9 +131,9 @@ def check_spec(path: str | Path) -> SpecCheck:
     p = str(path)
     result = SpecCheck(path=p, spec=None)
     try:
-        raw = Path(path).read_bytes()
-    except OSError as exc:
-        result.errors.append(SpecError(f"cannot read the file: {exc.strerror or exc}", path=p))
+        raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="specification", error=SpecError)
+    except SpeccheckError as exc:
+        result.errors.append(exc)
         return result
     try:
         text = raw.decode("utf-8-sig")
