@@ -184,6 +184,19 @@ def test_environment_variable_selects_the_server(pg_url: str, run_cli, monkeypat
     assert status == 0 and '"part": "ENV-1"' in out
 
 
+def test_lot_record_message_never_shows_the_password(pg_url: str, run_cli, tmp_path: Path):
+    # The throwaway server trusts local connections, so a password in the URL is accepted and
+    # ignored; whatever the store prints about where it wrote must not carry it.
+    from test_lot import GOOD, build_lot
+
+    url = pg_url.replace("postgres@", "postgres:s3cr3t-pw@", 1)
+    plan = build_lot(tmp_path, {f"S-0{i}": GOOD for i in range(1, 6)})
+    status, _, err = run_cli("lot", plan, "--data", plan.parent / "data", "--record", "--db", url)
+    assert status == 0, err
+    assert "s3cr3t-pw" not in err
+    assert err == f"recorded as record 1 in {redact_url(url)}\n"
+
+
 # -- migration --------------------------------------------------------------------------------
 
 

@@ -127,7 +127,8 @@ def command(
 
         with RecordsStore.open(default_db_path(db)) as store:
             rid = store.append_lot(result, report_sha256=report_sha256, signer=signer)
-        click.echo(f"recorded as record {rid} in {default_db_path(db)}", err=True)
+            where = store.location  # a server URL arrives here without its password
+        click.echo(f"recorded as record {rid} in {where}", err=True)
     lot = result.lot
     if json_out != "-":
         click.echo(f"{lot['part']} lot {lot['id']}: {result.disposition.upper()} — {result.reason}")

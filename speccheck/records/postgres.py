@@ -67,9 +67,9 @@ def redact_url(url: str) -> str:
 def _psycopg() -> Any:
     try:
         import psycopg
-    except ImportError:  # pragma: no cover - psycopg is a dependency
+    except ImportError:
         raise RecordsError(
-            "a PostgreSQL store needs psycopg 3: pip install 'psycopg[binary]'"
+            "a PostgreSQL store needs psycopg 3: pip install 'speccheck[plant]'"
         ) from None
     return psycopg
 
