@@ -64,3 +64,51 @@ def test_whole_demo_runs(tmp_path):
     # a second run in the same folder reuses the demo key and appends to the same records
     run2 = run_demo(tmp_path / "demo", echo=lines.append)
     assert run2.audit_ok is True
+
+
+def test_demo_replay_answers_the_revision_question_on_a_local_cluster(tmp_path, run_cli):
+    """Revision E relaxes Ra 0.4 to Ra 0.8 and Rz max 3.2 to Rz max 6.3 (speccheck.lot.demo).
+
+    By construction of the demo data, the two rough shafts of lot ARD-2611-014 (generated Ra
+    0.55-0.57 µm, DEMO_LOT_ROUGH) and the undecided ISO 21920 check (its tighter Rz) are the only
+    verdicts that change, and the lot, rejected for those two shafts, would be accepted.
+    A 2-worker Dask LocalCluster must give exactly what the demo's local pool gave.
+    """
+    import json
+
+    from distributed import LocalCluster
+
+    from speccheck.lot.demo import DEMO_LOT_ROUGH
+
+    run = run_demo(tmp_path / "demo", echo=lambda _line: None)
+    lot_record = len(DEMO_CASES) + 1
+    iso21920 = 1 + [c.spec for c in DEMO_CASES].index("kfp-2041-iso21920.yaml")
+    expected = {str(iso21920)} | {f"{lot_record}/{s}" for s in DEMO_LOT_ROUGH}
+    pool = run.replay
+    assert {f["key"] for f in pool["flips"]} == expected
+    assert all(f["after"] == "conforming" for f in pool["flips"])
+    (lot,) = pool["lots"]
+    assert (lot["lot"], lot["before"], lot["after"]) == ("ARD-2611-014", "reject", "accept")
+
+    out = tmp_path / "replay.json"
+    with LocalCluster(
+        n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1", dashboard_address=None
+    ) as cluster:
+        status, _, err = run_cli(
+            "replay",
+            "--db",
+            str(run.records),
+            "--archive",
+            str(run.folder),
+            "--spec",
+            str(run.revised_spec),
+            "--scheduler",
+            cluster.scheduler_address,
+            "--json",
+            str(out),
+        )
+    assert status == 1, err  # some verdict and one lot disposition would change
+    dask = json.loads(out.read_text(encoding="utf-8"))
+    assert dask["scheduler"] == cluster.scheduler_address
+    for key in ("checks", "replayed", "before", "after", "flips", "suppliers", "lots"):
+        assert dask[key] == pool[key], key

@@ -13,6 +13,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
+from typing import Any
 
 from speccheck.errors import SpeccheckError
 
@@ -83,6 +84,8 @@ class DemoRun:
     verified: str | None = None
     records: Path | None = None
     audit_ok: bool | None = None
+    revised_spec: Path | None = None
+    replay: dict | None = None  # what revision E would have changed (ReplaySummary.to_dict)
 
 
 def example_spec_path(name: str) -> Path:
@@ -119,6 +122,26 @@ def _demo_key(folder: Path) -> tuple[Path, bytes, Path]:
         days=30,
     )
     return p12, passphrase, p12.with_suffix(".pem")
+
+
+def _replay_revision(run: DemoRun, store: Any, specs: Path, echo: Callable[[str], None]) -> None:
+    """Ask the drawing author's question of the demo records: what would revision E change?"""
+    from speccheck.lot.demo import write_revised_spec
+    from speccheck.replay import Archive, replay
+
+    run.revised_spec = write_revised_spec(specs)
+    summary = replay(store, Archive(run.folder), run.revised_spec, workers=2).to_dict()
+    run.replay = summary
+    changed = ", ".join(
+        f"lot {lot['lot']} {lot['before']} -> {lot['after']}"
+        for lot in summary["lots"]
+        if lot["before"] != lot["after"]
+    )
+    echo(
+        f"replay under {run.revised_spec.name}: {len(summary['flips'])} of "
+        f"{summary['replayed']} past checks would change verdict"
+        + (f"; {changed}" if changed else "")
+    )
 
 
 def run_demo(folder: str | Path, *, echo: Callable[[str], None] = print) -> DemoRun:
@@ -193,5 +216,7 @@ def run_demo(folder: str | Path, *, echo: Callable[[str], None] = print) -> Demo
     audit = store.audit()
     run.audit_ok = audit.intact
     echo(f"records: {run.records} ({'chain intact' if audit.intact else 'AUDIT FAILED'})")
+    _replay_revision(run, store, specs, echo)
+    store.close()
     echo(f"reports: {reports}  (signed with a throwaway demo key; trust {pem.name} to verify)")
     return run

@@ -20,7 +20,13 @@ from typing import Any
 
 from speccheck._atomic import atomic_write_text
 
-__all__ = ["build_demo_lot", "DEMO_LOT_SERIALS", "DEMO_LOT_ROUGH", "DEMO_LOT_SEED"]
+__all__ = [
+    "build_demo_lot",
+    "write_revised_spec",
+    "DEMO_LOT_SERIALS",
+    "DEMO_LOT_ROUGH",
+    "DEMO_LOT_SEED",
+]
 
 DEMO_LOT_SEED = 2611014
 # Serials of the sampled shafts (picked at random from 1..20 by the inspector, say)
@@ -46,6 +52,24 @@ requirements:
 measurement:
   cutoff: 0.8mm
 notes: Measure axially across the grinding lay at three positions 120 degrees apart.
+"""
+
+# The drawing author's question: had revision E (Ra 0.4 relaxed to Ra 0.8, Rz max 3.2 to
+# Rz max 6.3) been in force, what would it have done to past deliveries? ``speccheck replay``
+# answers it from the records store and the archived profiles.
+REVISED_SPEC_YAML = """\
+# Kestrel Fluid Power - shaft KFP-2041, ground seal seat, proposed revision E (demo; invented).
+spec_version: 1
+part:
+  number: KFP-2041
+  revision: E
+  surface: seal seat
+  name: drive shaft
+requirements:
+  - "Ra 0.8"
+  - "Rz max 6.3"
+measurement:
+  cutoff: 0.8mm
 """
 
 PLAN_YAML = """\
@@ -116,3 +140,10 @@ def build_demo_lot(folder: str | Path, *, ground_profile: Callable[..., Any]) ->
             write_csv(target / f"p{j + 1}.csv", Profile(z_um=z_um, dx_um=_DX_UM, source=source))
     atomic_write_text(plan_path, PLAN_YAML)
     return plan_path
+
+
+def write_revised_spec(folder: str | Path) -> Path:
+    """Write the proposed revision E of the demo lot's spec into ``folder``; return its path."""
+    path = Path(folder) / "kfp-2041-seal-seat-rev-e.yaml"
+    atomic_write_text(path, REVISED_SPEC_YAML)
+    return path
