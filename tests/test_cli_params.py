@@ -46,16 +46,20 @@ def test_closed_form_values_from_both_file_forms(sine_file, capsys):
     status, d = run_json(capsys, path, "--cutoff", "0.8mm", "--ls", "none")
     assert status == 0
     p = d["parameters"]
-    assert p["Ra"] == {"value": pytest.approx(2 * A_UM / math.pi, rel=2e-4), "unit": "µm"}
+    assert p["Ra"] == {
+        "value": pytest.approx(2 * A_UM / math.pi, rel=2e-4),
+        "unit": "µm",
+        "basis": "section",
+    }
     assert p["Rq"]["value"] == pytest.approx(A_UM / math.sqrt(2), rel=1e-5)
-    assert p["Rsk"] == {"value": pytest.approx(0.0, abs=1e-6), "unit": ""}
+    assert p["Rsk"] == {"value": pytest.approx(0.0, abs=1e-6), "unit": "", "basis": "section"}
     assert p["Rku"]["value"] == pytest.approx(1.5, rel=1e-5)
     assert p["Rz"]["value"] == pytest.approx(2 * A_UM, rel=2e-4)
     assert p["Rt"]["value"] == pytest.approx(2 * A_UM, rel=2e-4)
     assert p["Rdq"]["value"] == pytest.approx(
         2 * math.pi * A_UM / (LAMBDA_UM * math.sqrt(2)), rel=1e-5
     )
-    assert p["RSm"] == {"value": pytest.approx(0.1, rel=1e-6), "unit": "mm"}
+    assert p["RSm"] == {"value": pytest.approx(0.1, rel=1e-6), "unit": "mm", "basis": "section"}
     assert len(d["sections"]) == 5 and d["sections"][2]["Ra"]["unit"] == "µm"
     c = d["conditions"]
     assert (c["lambda_c_mm"], c["lambda_s_um"], c["sections"], c["filter"]) == (
@@ -192,11 +196,15 @@ def test_parametrised_values_and_table(tmp_path, capsys):
     status, d = run_json(capsys, path, "--cutoff", "0.8mm", "--ls", "none", "--param", "Rmr(0.3)")
     assert status == 0
     expected = math.acos(1 - 0.3 / A_UM) / math.pi * 100
-    assert d["parameters"]["Rmr(0.3)"] == {"value": pytest.approx(expected, abs=1e-2), "unit": "%"}
+    assert d["parameters"]["Rmr(0.3)"] == {
+        "value": pytest.approx(expected, abs=1e-2),
+        "unit": "%",
+        "basis": "field",
+    }
     assert main(["params", str(path)]) == 0
     out = capsys.readouterr().out
     assert "λc chosen by the ISO 4288:1996 clause 7 procedure on Ra" in out
-    assert "Amplitude (ISO 4287)" in out and "Stratified surfaces (ISO 13565-2)" in out
+    assert "Amplitude" in out and "Stratified surfaces (ISO 13565-2)" in out
     ra_line = next(line for line in out.splitlines() if line.strip().startswith("Ra "))
     ra = 2 * A_UM / math.pi * math.exp(-math.pi * (0.4697 * 2.5 / LAMBDA_UM) ** 2)
     assert f"{ra:.4g}" in ra_line and "µm" in ra_line

@@ -160,7 +160,7 @@ def test_flat_profile_gives_nulls_and_notes_not_nan_in_json():
     d = ps.to_dict()
     text = json.dumps(d, allow_nan=False)  # raises on NaN
     assert d["parameters"]["Rsk"]["value"] is None
-    assert d["parameters"]["RSm"] == {"value": None, "unit": "mm"}
+    assert d["parameters"]["RSm"] == {"value": None, "unit": "mm", "basis": "section"}
     assert any(n.startswith("no core found for Rk") for n in d["notes"])
     assert "Rk" not in d["parameters"]
     assert any(n.startswith("RSm:") for n in d["notes"])

@@ -29,14 +29,16 @@ _FORMS = ("line", "arc", "poly2", "poly3", "poly4", "poly5", "poly6", "none")
 
 # Families for the table, in order: (heading, base names of speccheck.parameters.names)
 _FAMILIES = (
-    ("Amplitude (ISO 4287)", ("a", "q", "sk", "ku")),
-    ("Peaks and valleys (ISO 4287)", ("p", "v", "z", "t", "z1max")),
-    ("Spacing and slope (ISO 4287)", ("c", "Sm", "dq")),
-    ("Material ratio (ISO 4287)", ("mr", "dc")),
+    ("Amplitude", ("a", "q", "sk", "ku")),
+    ("Peaks and valleys", ("p", "v", "z", "t", "z1max")),
+    ("Spacing and slope", ("c", "Sm", "dq")),
+    ("Material ratio", ("mr", "dc")),
     ("Stratified surfaces (ISO 13565-2)", ("k", "pk", "vk", "mr1", "mr2", "A1", "A2")),
     ("Probability curve (ISO 13565-3)", ("pq", "vq", "mq")),
     ("ASME B46.1", ("pm", "vm", "max", "pc")),
 )
+
+_EDITION = {"iso4287": "ISO 4287:1997", "iso21920-2": "ISO 21920-2:2021"}
 
 _OPTION_OF_KEY = {
     "key lambda_c_mm": "option --cutoff",
@@ -112,6 +114,14 @@ def _fmt(value: float | None) -> str:
     metavar="NAME",
     help="Also compute a parametrised parameter, e.g. 'Rmr(0.5)' or 'Rdc(20-80)'.",
 )
+@click.option(
+    "--convention",
+    type=click.Choice(["iso1302", "iso21920", "asme"]),
+    default="iso1302",
+    show_default=True,
+    help="Definitions and default cut-off table: ISO 4287 / ISO 4288 (iso1302, asme) or "
+    "ISO 21920-2 field parameters / ISO 21920-3 (iso21920).",
+)
 @format_option
 @dx_option
 @decimal_option
@@ -126,6 +136,7 @@ def command(
     kind: str,
     form: str,
     extra: tuple[str, ...],
+    convention: str,
     fmt: str | None,
     dx: str | None,
     decimal: str,
@@ -156,13 +167,21 @@ def command(
             path=file,
         )
     z, dx_um = profile.z_um, profile.dx_um
+    definitions = "iso21920-2" if convention == "iso21920" else "iso4287"
+    table = "iso21920-3" if convention == "iso21920" else "iso4288"
     if cutoff is not None:
         lambda_c_mm = _length_um(cutoff, "--cutoff") / 1000.0
         choice: dict[str, Any] = {"source": "--cutoff"}
     else:
         try:
             sel = choose_lambda_c(
-                z, dx_um=dx_um, lambda_s_um=ls_value, sections=sections, filter=filter_, form=form
+                z,
+                dx_um=dx_um,
+                lambda_s_um=ls_value,
+                sections=sections,
+                filter=filter_,
+                form=form,
+                table=table,
             )
         except SpeccheckError as exc:
             raise SpeccheckError(f"default cut-off: {exc.message}", path=file) from None
@@ -170,7 +189,8 @@ def command(
             return _insufficient(file, sel, as_json)
         lambda_c_mm = sel.lambda_c_mm
         choice = {
-            "source": "ISO 4288:1996 clause 7 procedure on Ra",
+            "source": "ISO 4288:1996 clause 7 procedure on Ra"
+            + (" with the ISO 21920-3:2021 table" if table == "iso21920-3" else ""),
             "settled": sel.selection.settled,
             "message": sel.selection.message,
             "estimate": {"lambda_c_mm": sel.estimate_lambda_c_mm, "Ra_um": sel.estimate_um},
@@ -191,6 +211,7 @@ def command(
             filter=filter_,
             form=form,
             profile=kind,
+            definitions=definitions,
         )
         result = compute_parameters(z, dx_um=dx_um, conditions=conditions, extra=extra)
     except SpeccheckError as exc:
@@ -206,6 +227,7 @@ def command(
     out = result.to_dict()
     out["diagnostics"] = [d.to_dict() for d in diagnose(result)]
     out["cutoff_choice"] = choice
+    out["convention"] = convention
     src = profile.source
     out["source"] = {"path": src.path, "sha256": src.sha256, "format": src.format}
     if as_json:
@@ -248,7 +270,8 @@ def _print_table(out: dict[str, Any]) -> None:
     console.print(
         f"λc {c['lambda_c_mm']:g} mm, λs {ls}{lf}, "
         f"evaluation length {c['evaluation_length_mm']:g} mm in {c['sections']} sections, "
-        f"{c['filter']} filter, form {c['form']}, profile {c['profile']}"
+        f"{c['filter']} filter, form {c['form']}, profile {c['profile']}, "
+        f"definitions {_EDITION[c['definitions']]}"
     )
     choice = out["cutoff_choice"]
     if choice["source"] != "--cutoff":
@@ -259,7 +282,7 @@ def _print_table(out: dict[str, Any]) -> None:
         )
     table = Table(box=None, pad_edge=False)
     shown = sections if len(sections) > 1 else []  # one section: its values are the values
-    for col in ("parameter", "value", "unit", *(f"s{i + 1}" for i in range(len(shown)))):
+    for col in ("parameter", "value", "unit", "basis", *(f"s{i + 1}" for i in range(len(shown)))):
         table.add_column(col, justify="left" if col in ("parameter", "unit") else "right")
     for heading, bases in _FAMILIES:
         rows = [n for n in params if (p := parse_parameter_name(n)) is not None and p.base in bases]
@@ -268,7 +291,9 @@ def _print_table(out: dict[str, Any]) -> None:
         table.add_row(f"[bold]{heading}[/bold]")
         for name in rows:
             per = [_fmt(s[name]["value"]) if name in s else "" for s in shown]
-            table.add_row(f"  {name}", _fmt(params[name]["value"]), params[name]["unit"], *per)
+            entry = params[name]
+            basis = entry.get("basis", "") if len(sections) > 1 else "field"
+            table.add_row(f"  {name}", _fmt(entry["value"]), entry["unit"], basis, *per)
     console.print(table)
     for note in out["notes"]:
         console.print(f"note: {note}")

@@ -67,6 +67,18 @@ DEMO_CASES: tuple[DemoCase, ...] = (
         "guarded rejection: values within U of the limit are not proof of non-conformity",
     ),
     DemoCase(
+        "kfp-3310-bore-slope.yaml",
+        (*_HOLLOWAY, "kfp-3310_holloway_04_scratch.x3p"),
+        "conforming",
+        "RΔq as an ISO 4287 section mean: the scratch is averaged with four clean sections",
+    ),
+    DemoCase(
+        "kfp-3310-bore-slope-iso21920.yaml",
+        (*_HOLLOWAY, "kfp-3310_holloway_04_scratch.x3p"),
+        "nonconforming",
+        "the same limit under ISO 21920-2: RΔq over the whole evaluation length",
+    ),
+    DemoCase(
         "kfp-1187-flange-face.yaml",
         _FLANGE,
         "nonconforming",

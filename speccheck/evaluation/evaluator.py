@@ -126,6 +126,7 @@ def requirement_conditions(spec: LoadedSpec, req: Requirement) -> Conditions:
             filter=req.filter,
             form=req.form,
             profile=parsed.letter,
+            definitions=req.definitions,
         )
     except SpeccheckError as exc:
         raise SpecError(f"{req.text}: {exc.message}", path=spec.path, where=req.location) from exc
@@ -299,6 +300,17 @@ def _further_text(n: int, per_section: bool, sections: int) -> str:
     return f"{n} more profile{'s' if n != 1 else ''}"
 
 
+def _basis(req: Requirement, cond: Conditions) -> str:
+    """ "field" or "section": how the requirement's parameter is computed (names.basis)."""
+    from speccheck.parameters.names import basis, parse_parameter_name
+
+    parsed = parse_parameter_name(req.parameter)
+    assert parsed is not None  # requirement_conditions refused unknown names
+    if cond.profile == "P" or cond.sections == 1:  # one section is the evaluation length
+        return "field"
+    return basis(parsed.base, cond.definitions)
+
+
 def _requirement_result(
     spec: LoadedSpec, req: Requirement, cond: Conditions, values: list[_Value]
 ) -> RequirementResult:
@@ -433,6 +445,8 @@ def _requirement_result(
         "filter": cond.filter,
         "form": cond.form,
         "profile": cond.profile,
+        "definitions": cond.definitions,
+        "basis": _basis(req, cond),
         "cutoff_table": req.cutoff_table,
         "rule_source": req.rule_source,
         "value_per": spec.value_per,

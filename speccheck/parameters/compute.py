@@ -14,12 +14,14 @@ Pipeline (:func:`compute_parameters`)
 6. section parameters on the sections as rows of a 2-D array, averaged over the sections
    (ISO 4287:1997 4: "defined over a sampling length", ISO 4288:1996 4.4 mean of the sections);
    evaluation-length parameters (Rt, Rmr(c), Rδc, Rz1max, Rmax, Rpc, the ISO 13565 families) on
-   the whole evaluation length.
+   the whole evaluation length. Under ``conditions.definitions == "iso21920-2"`` the field
+   parameters of ISO 21920-2:2021 (Ra, Rq, Rsk, Rku, RΔq, and Rc, RSm on the elements of the
+   whole evaluation length) are computed over the evaluation length instead; Rz, Rp, Rv stay
+   section means (:func:`speccheck.parameters.names.basis` says which is which).
 
 The P profile is evaluated over the evaluation length as **one** section (ISO 4287:1997 3.1.9:
 the primary sampling length equals the evaluation length), so its section parameters equal
-their evaluation-length values. ISO 21920-2 field parameters (Ra, Rq, Rsk, Rku, RΔq over the
-evaluation length instead of section means) are not offered yet.
+their evaluation-length values.
 
 The Rk family (ISO 13565-2) and Rpq, Rvq, Rmq (ISO 13565-3) are computed on the roughness
 profile of the ISO 13565-1 reference line (valley-suppressed Gaussian), or on the robust
@@ -41,7 +43,7 @@ import numpy as np
 
 from speccheck.parameters import amplitude, asme, material, rk, spacing
 from speccheck.parameters.conditions import Conditions
-from speccheck.parameters.names import PARAMETERS, parse_parameter_name
+from speccheck.parameters.names import PARAMETERS, basis, parse_parameter_name
 
 __all__ = [
     "ParameterValue",
@@ -102,6 +104,7 @@ def _conditions_dict(c: Conditions) -> dict[str, Any]:
         "filter": c.filter,
         "form": c.form,
         "profile": c.profile,
+        "definitions": c.definitions,
     }
 
 
@@ -121,8 +124,13 @@ class ParameterSet:
         for name, p in self.values.items():
             if not math.isfinite(p.value) and not any(n.startswith(f"{name}:") for n in notes):
                 notes.append(f"{name}: not computable on this profile (null)")
+        params = _values_dict(self.values)
+        for name, entry in params.items():
+            parsed = parse_parameter_name(name)
+            if parsed is not None:
+                entry["basis"] = basis(parsed.base, self.conditions.definitions)
         return {
-            "parameters": _values_dict(self.values),
+            "parameters": params,
             "sections": [_values_dict(s) for s in self.sections],
             "conditions": _conditions_dict(self.conditions),
             "notes": notes,
@@ -331,19 +339,7 @@ def compute_parameters(
         assert parsed is not None, base
         return parsed.name
 
-    for base, fn in SECTION_FUNCTIONS.items():
-        per = np.asarray(fn(sec, dx), dtype=np.float64).reshape(n_sec)
-        name = parse_name(base)
-        for k in range(n_sec):
-            per_section[k][name] = ParameterValue(float(per[k]), PARAMETERS[base].unit)
-        values[name] = ParameterValue(_mean_over_sections(name, per, notes), PARAMETERS[base].unit)
-    # RΔq: each section with 3 trace points either side, the neighbours of the 7-point stencil
-    wide = _section_rows(prof, start, n_sec, m, spacing.SLOPE_MARGIN_POINTS)
-    dq = np.asarray(spacing.rms_slope(wide, dx_um=dx)).reshape(n_sec)
-    name = parse_name("dq")
-    for k in range(n_sec):
-        per_section[k][name] = ParameterValue(float(dq[k]), PARAMETERS["dq"].unit)
-    values[name] = ParameterValue(_mean_over_sections(name, dq, notes), PARAMETERS["dq"].unit)
+    _section_values(prof, start, n_sec, m, dx, conditions, values, per_section, notes)
     put("t", amplitude.total_height(le))
     put("z1max", amplitude.largest_section_max_height(sec))
     put("pm", asme.mean_peak_height(sec))
@@ -375,6 +371,76 @@ def compute_parameters(
         trace_mean_line_um=line,
     )
     return ParameterSet(values, tuple(per_section), conditions, profiles, tuple(notes))
+
+
+def _field_value(
+    base: str, le: np.ndarray, wide: np.ndarray, dx: float, rz_um: float, section_um: float
+) -> float:
+    """One ISO 21920-2 field parameter over the evaluation length ``le`` (µm from the mean line).
+
+    ``wide`` is ``le`` with :data:`spacing.SLOPE_MARGIN_POINTS` trace points each side (RΔq);
+    ``rz_um`` the mean section Rz and ``section_um`` the section length (element discrimination).
+    """
+    if base == "dq":
+        return float(spacing.rms_slope(wide, dx_um=dx))
+    if base == "c":
+        return spacing.field_mean_height_of_elements(
+            le, dx_um=dx, section_length_um=section_um, rz_um=rz_um
+        )
+    if base == "Sm":
+        return spacing.field_mean_width_of_elements_mm(
+            le, dx_um=dx, section_length_um=section_um, rz_um=rz_um
+        )
+    return float(SECTION_FUNCTIONS[base](le, dx))
+
+
+def _section_values(
+    prof: np.ndarray,
+    start: int,
+    n_sec: int,
+    m: int,
+    dx: float,
+    conditions: Conditions,
+    values: dict[str, ParameterValue],
+    per_section: list[dict[str, ParameterValue]],
+    notes: list[str],
+) -> None:
+    """Section parameters and RΔq: per-section values, and each overall value by its basis.
+
+    The overall value is the mean of the section values (ISO 4287:1997) or, for the field
+    parameters of ISO 21920-2:2021 under ``conditions.definitions == "iso21920-2"``, the value
+    over the whole evaluation length (:func:`speccheck.parameters.names.basis`). Per-section
+    values are kept in both cases, for plots and comparison.
+    """
+    letter = conditions.profile
+    sec = _section_rows(prof, start, n_sec, m, 0)
+    wide = _section_rows(prof, start, n_sec, m, spacing.SLOPE_MARGIN_POINTS)
+    per_by_base: dict[str, np.ndarray] = {}
+    for base, fn in SECTION_FUNCTIONS.items():
+        per_by_base[base] = np.asarray(fn(sec, dx), dtype=np.float64).reshape(n_sec)
+    per_by_base["dq"] = np.asarray(spacing.rms_slope(wide, dx_um=dx)).reshape(n_sec)
+    le = sec.reshape(-1)
+    margin = spacing.SLOPE_MARGIN_POINTS
+    idx = np.clip(np.arange(start - margin, start + n_sec * m + margin), 0, prof.size - 1)
+    rz_um = float(np.mean(per_by_base["z"]))
+    for base, per in per_by_base.items():
+        name = _name(letter, base)
+        unit = PARAMETERS[base].unit
+        for k in range(n_sec):
+            per_section[k][name] = ParameterValue(float(per[k]), unit)
+        if n_sec > 1 and basis(base, conditions.definitions) == "field":
+            v = _field_value(base, le, prof[idx], dx, rz_um, conditions.section_length_mm * 1e3)
+            if not math.isfinite(v):
+                notes.append(f"{name}: not computable over the evaluation length (null)")
+        else:
+            v = _mean_over_sections(name, per, notes)
+        values[name] = ParameterValue(v, unit)
+
+
+def _name(letter: str, base: str) -> str:
+    parsed = parse_parameter_name(letter + base)
+    assert parsed is not None, base
+    return parsed.name
 
 
 def _stratified(

@@ -36,6 +36,7 @@ from numbers import Integral, Real
 from typing import Literal
 
 from speccheck.errors import SpeccheckError
+from speccheck.parameters.names import DEFINITIONS
 
 __all__ = [
     "Conditions",
@@ -289,6 +290,9 @@ class Conditions:
         One of :data:`FORMS`.
     profile:
         ``"R"``, ``"W"`` or ``"P"``.
+    definitions:
+        ``"iso4287"`` (section means, ISO 4287:1997) or ``"iso21920-2"`` (field parameters over
+        the evaluation length, ISO 21920-2:2021); see :func:`speccheck.parameters.names.basis`.
 
     Notes
     -----
@@ -302,6 +306,7 @@ class Conditions:
     filter: str = "gaussian"
     form: str = "line"
     profile: str = "R"
+    definitions: str = "iso4287"
 
     def __post_init__(self) -> None:
         def positive(name: str, v: float | None, optional: bool) -> None:
@@ -341,6 +346,7 @@ class Conditions:
             ("filter", self.filter, FILTERS),
             ("form", self.form, FORMS),
             ("profile", self.profile, PROFILE_KINDS),
+            ("definitions", self.definitions, DEFINITIONS),
         ):
             if value not in known:
                 raise SpeccheckError(

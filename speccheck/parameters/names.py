@@ -14,7 +14,16 @@ import re
 from dataclasses import dataclass
 from typing import Literal
 
-__all__ = ["ParameterInfo", "PARAMETERS", "ParsedName", "parse_parameter_name"]
+__all__ = [
+    "ParameterInfo",
+    "PARAMETERS",
+    "ParsedName",
+    "parse_parameter_name",
+    "DEFINITIONS",
+    "FIELD_UNDER_ISO21920",
+    "basis",
+    "basis_words",
+]
 
 Scope = Literal["section", "evaluation"]  # averaged over sections, or over the evaluation length
 
@@ -70,6 +79,38 @@ PARAMETERS: dict[str, ParameterInfo] = {
     ),
     "pc": ParameterInfo("1/cm", "evaluation", "ASME B46.1 1-5 (peak count per unit length)", "R"),
 }
+
+#: Which edition's definitions a value is computed under: ISO 4287:1997 (with ISO 4288:1996,
+#: ISO 13565, ASME B46.1 as listed above) or ISO 21920-2:2021.
+DEFINITIONS = ("iso4287", "iso21920-2")
+
+#: Base names that ISO 4287 defines on a sampling length (a mean of section values) and
+#: ISO 21920-2:2021 defines over the whole evaluation length (from memory: that edition's field
+#: parameters Ra, Rq, Rsk, Rku, RΔq; the profile-element parameters Rc and RSm are evaluated on
+#: the elements of the whole evaluation length). Rz, Rp, Rv stay means of section values in
+#: both editions; Rt, the material-ratio family and ISO 13565 are over the evaluation length in
+#: both.
+FIELD_UNDER_ISO21920 = frozenset({"a", "q", "sk", "ku", "dq", "c", "Sm"})
+
+
+def basis(base: str, definitions: str = "iso4287") -> Literal["field", "section"]:
+    """``"field"`` (over the evaluation length) or ``"section"`` (mean of section values)."""
+    if definitions not in DEFINITIONS:
+        raise ValueError(f"unknown definitions {definitions!r} (known: {', '.join(DEFINITIONS)})")
+    if PARAMETERS[base].scope == "evaluation":
+        return "field"
+    if definitions == "iso21920-2" and base in FIELD_UNDER_ISO21920:
+        return "field"
+    return "section"
+
+
+def basis_words(base: str, definitions: str, sections: int) -> str:
+    """The basis in words, e.g. "mean of 5 section values (ISO 4287:1997)"."""
+    edition = "ISO 21920-2:2021" if definitions == "iso21920-2" else "ISO 4287:1997"
+    if basis(base, definitions) == "field":
+        return f"field value over the whole evaluation length ({edition})"
+    return f"mean of {sections} section value{'s' if sections != 1 else ''} ({edition})"
+
 
 # Spelling on drawings and in output for the ISO 13565-2 material ratios (no profile letter).
 DISPLAY_ALIASES = {"Rmr1": "Mr1", "Rmr2": "Mr2", "RA1": "A1", "RA2": "A2"}

@@ -36,6 +36,8 @@ __all__ = [
     "profile_elements",
     "mean_width_of_elements_mm",
     "mean_height_of_elements",
+    "field_mean_width_of_elements_mm",
+    "field_mean_height_of_elements",
     "local_slope",
     "rms_slope",
     "SLOPE_MARGIN_POINTS",
@@ -166,6 +168,51 @@ def mean_height_of_elements(z_um, *, dx_um: float) -> float | np.ndarray:
     Returns the mean element height Zt in µm per section; NaN where a section holds no element.
     """
     return _per_row(z_um, dx_um, "heights_um", 1.0)
+
+
+def _field_elements(
+    z_um, *, dx_um: float, section_length_um: float, rz_um: float
+) -> ProfileElements:
+    """Elements of the whole evaluation length, discriminated by 10 % of Rz and 1 % of lsc.
+
+    ISO 21920-2:2021 takes the profile elements over the evaluation length; its default height
+    discrimination is 10 % of Rz (the mean of the section maximum heights) and its width
+    discrimination 1 % of the section length lsc (from memory). The limits are passed to
+    :func:`profile_elements` as fractions of that row's own Rz and length.
+    """
+    z = as_heights(z_um)
+    rt = float(z.max() - z.min())
+    if not rt > 0.0:
+        return ProfileElements(np.empty(0), np.empty(0), np.empty(0))
+    return profile_elements(
+        z,
+        dx_um=dx_um,
+        height_fraction=HEIGHT_DISCRIMINATION * rz_um / rt,
+        width_fraction=WIDTH_DISCRIMINATION * section_length_um / (z.size * dx_um),
+    )
+
+
+def field_mean_width_of_elements_mm(
+    z_um, *, dx_um: float, section_length_um: float, rz_um: float
+) -> float:
+    """Mean profile element width RSm over the evaluation length (ISO 21920-2:2021; from memory).
+
+    ``z_um`` is the whole evaluation length (1-D, µm from the mean line); ``rz_um`` the mean of
+    the section maximum heights; returns mm, NaN when no complete element lies in it.
+    """
+    el = _field_elements(z_um, dx_um=dx_um, section_length_um=section_length_um, rz_um=rz_um)
+    return float(np.mean(el.widths_um)) * 1e-3 if el.count else float("nan")
+
+
+def field_mean_height_of_elements(
+    z_um, *, dx_um: float, section_length_um: float, rz_um: float
+) -> float:
+    """Mean profile element height Rc over the evaluation length (ISO 21920-2:2021; from memory).
+
+    Arguments as :func:`field_mean_width_of_elements_mm`; returns µm, NaN without elements.
+    """
+    el = _field_elements(z_um, dx_um=dx_um, section_length_um=section_length_um, rz_um=rz_um)
+    return float(np.mean(el.heights_um)) if el.count else float("nan")
 
 
 def local_slope(z_um, *, dx_um: float) -> np.ndarray:

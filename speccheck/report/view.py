@@ -225,6 +225,10 @@ def _conditions_text(c: Mapping[str, Any]) -> str:
         parts.append(f"evaluation length {plain_number(c['evaluation_length_mm'], 'mm')}")
     if c.get("filter"):
         parts.append(f"{c['filter']} filter")
+    if c.get("basis"):
+        edition = "ISO 21920-2" if c.get("definitions") == "iso21920-2" else "ISO 4287"
+        what = "field value" if c["basis"] == "field" else "mean of section values"
+        parts.append(f"{what} ({edition})")
     if c.get("form"):
         parts.append(f"form removed: {c['form']}")
     if c.get("max_spacing_um") is not None:

@@ -63,6 +63,19 @@ def _form_words(form: str) -> str:
     return _FORM_WORDS.get(form, form)
 
 
+def _basis_words(req: Requirement) -> str:
+    from speccheck.parameters.names import basis_words, parse_parameter_name
+
+    parsed = parse_parameter_name(req.parameter)
+    if parsed is None:
+        return "unknown parameter"
+    sections = 1 if parsed.letter == "P" else req.sections
+    if sections == 1:
+        return "one section: the value over the evaluation length"
+    src = "convention iso21920" if req.definitions == "iso21920-2" else "convention iso1302 or asme"
+    return f"{basis_words(parsed.base, req.definitions, sections)} — {src}"
+
+
 def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
     """(label, text) pairs for ``req``; each setting is followed by " — " and its source."""
     rule_words = "16 % rule" if req.rule == "16%" else "max rule (no measured value may exceed)"
@@ -86,6 +99,7 @@ def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
             f"{req.sections} sections of {req.lambda_c_mm:g} mm = evaluation length "
             f"{req.evaluation_length_mm:g} mm — {req.sections_source}",
         ),
+        ("value", _basis_words(req)),
         ("short-wave", ls),
         ("filter", f"{_FILTER_WORDS[req.filter]} — {req.filter_source}"),
         ("form", f"{_form_words(req.form)} removed first — {req.form_source}"),

@@ -44,6 +44,9 @@ class Requirement:
     filter_source: str = ""
     form_source: str = ""
     uncertainty_source: str = ""
+    # Which edition defines the parameter's value: "iso4287" (ISO 4287:1997 section means; also
+    # used under the ASME convention) or "iso21920-2" (ISO 21920-2:2021 field parameters).
+    definitions: Literal["iso4287", "iso21920-2"] = "iso4287"
 
     @property
     def evaluation_length_mm(self) -> float:

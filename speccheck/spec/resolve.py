@@ -464,6 +464,7 @@ class _Resolver:
             "sections_source": sections_source,
             "filter_source": filter_source,
             "form_source": form_source,
+            "definitions": "iso21920-2" if conv == "iso21920" else "iso4287",
         }
 
     def table_cutoff(
