@@ -98,7 +98,9 @@ def test_genuine_record_verifies_with_and_without_trust(world):
     assert r.recorded_verdict == r.recomputed_verdict == "conforming"
     untrusted = verify_report(world["signed"])
     assert untrusted.ok and untrusted.signature.trusted is None
-    assert any(w.startswith("signer not trusted: no --trust given") for w in untrusted.warnings)
+    assert any(
+        w.startswith("signer's identity unproven: no --trust given") for w in untrusted.warnings
+    )
 
 
 def test_cli_exit_statuses(world, capsys):
@@ -107,7 +109,7 @@ def test_cli_exit_statuses(world, capsys):
     assert out.rstrip().endswith("VERIFIED") and "trusted (chains to a --trust certificate)" in out
     assert main(["verify", str(world["signed"])]) == 0
     out = capsys.readouterr().out
-    assert "warning:       signer not trusted: no --trust given" in out
+    assert "warning:       signer's identity unproven: no --trust given" in out
     # a certificate that is not the signer's: untrusted is a failure once --trust is given
     assert main(["verify", str(world["signed"]), "--trust", str(world["stranger"].pem_path)]) == 1
     out = capsys.readouterr().out

@@ -8,6 +8,7 @@ pyHanko signs it when a key is given. The file is written atomically.
 
 from __future__ import annotations
 
+import datetime as _dt
 import hashlib
 import io
 import json
@@ -293,6 +294,7 @@ def write_lot_report(
     plan_raw: bytes | None = None,
     sign_p12: str | Path | None = None,
     passphrase: bytes | None = None,
+    tsa_url: str | None = None,
 ) -> str:
     """Write the lot report PDF (attachments: lot JSON, plan file; signed if a key is given).
 
@@ -303,11 +305,14 @@ def write_lot_report(
     """
     from speccheck.report.pdf import EmbeddedFile, embed_files, render_pdf
 
-    signer = None
+    signer = key = None
+    now = _dt.datetime.now(_dt.UTC).replace(microsecond=0)
     if sign_p12 is not None:
-        from speccheck.report.signing import signer_identity
+        from speccheck.report.signing import check_valid_at, open_key
 
-        ident = signer_identity(Path(sign_p12), passphrase)
+        key = open_key(Path(sign_p12), passphrase)
+        check_valid_at(key.certificate, now, path=key.path)
+        ident = key.identity
         signer = {
             "name": ident.name,
             "organisation": ident.organisation,
@@ -329,11 +334,11 @@ def write_lot_report(
             EmbeddedFile(Path(result.plan["path"]).name, plan_raw, "the inspection plan, as read")
         )
     pdf = embed_files(pdf, files)
-    if sign_p12 is not None:
+    if key is not None:
         from speccheck.report.signing import sign_pdf
 
         pdf = sign_pdf(
-            pdf, p12_path=Path(sign_p12), passphrase=passphrase, reason="lot inspection record"
+            pdf, key=key, reason="lot inspection record", signing_time=now, tsa_url=tsa_url
         )
     atomic_write_bytes(Path(out_path), pdf)
     return hashlib.sha256(pdf).hexdigest()

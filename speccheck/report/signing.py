@@ -56,6 +56,7 @@ class SignerIdentity:
     sha256_fingerprint: str
     not_after: str
     self_signed: bool
+    not_before: str = ""
 
 
 def read_passphrase(passphrase_file: Path | None) -> bytes | None:
@@ -241,9 +242,33 @@ def _identity(cert) -> SignerIdentity:
         name=attr(NameOID.COMMON_NAME) or cert.subject.rfc4514_string(),
         organisation=attr(NameOID.ORGANIZATION_NAME),
         sha256_fingerprint=_fingerprint(cert),
-        not_after=cert.not_valid_after_utc.isoformat().replace("+00:00", "Z"),
+        not_after=_iso(cert.not_valid_after_utc),
         self_signed=cert.issuer == cert.subject,
+        not_before=_iso(cert.not_valid_before_utc),
     )
+
+
+def _iso(t: _dt.datetime) -> str:
+    return t.astimezone(_dt.UTC).isoformat().replace("+00:00", "Z")
+
+
+def check_valid_at(cert: Any, when: _dt.datetime, *, path: str | None = None) -> None:
+    """Refuse a certificate that is not valid at ``when`` (RFC 5280 4.1.2.5: notBefore..notAfter).
+
+    A signature made outside its certificate's validity period proves nothing about the key
+    holder, so the record is not signed at all.
+    """
+    start, end = cert.not_valid_before_utc, cert.not_valid_after_utc
+    stamp = when.astimezone(_dt.UTC).strftime("%Y-%m-%d %H:%M:%S UTC")
+    window = f"valid {start:%Y-%m-%d %H:%M:%S} UTC to {end:%Y-%m-%d %H:%M:%S} UTC"
+    if when < start:
+        raise ReportError(
+            f"the certificate is not yet valid at the signing time {stamp} ({window})", path=path
+        )
+    if when > end:
+        raise ReportError(
+            f"the certificate has expired at the signing time {stamp} ({window})", path=path
+        )
 
 
 @dataclass(frozen=True)
@@ -252,6 +277,8 @@ class SigningKey:
 
     identity: SignerIdentity
     signer: Any  # pyhanko.sign.signers.SimpleSigner
+    certificate: Any = None  # cryptography.x509.Certificate
+    path: str | None = None
 
 
 def open_key(p12_path: Path, passphrase: bytes | None) -> SigningKey:
@@ -277,7 +304,7 @@ def open_key(p12_path: Path, passphrase: bytes | None) -> SigningKey:
         signing_key=signing_key,
         cert_registry=SimpleCertificateStore.from_certs([signing_cert, *others]),
     )
-    return SigningKey(identity=_identity(cert), signer=signer)
+    return SigningKey(identity=_identity(cert), signer=signer, certificate=cert, path=str(p12_path))
 
 
 def _signature_space(signer: Any) -> int:
@@ -303,6 +330,8 @@ def sign_pdf(
     reason: str | None = None,
     location: str | None = None,
     key: SigningKey | None = None,
+    signing_time: _dt.datetime | None = None,
+    tsa_url: str | None = None,
 ) -> bytes:
     """Sign a PDF with the key in a PKCS#12 file: PAdES baseline B (ETSI EN 319 142-1), SHA-256.
 
@@ -318,21 +347,33 @@ def sign_pdf(
         Written into the signature dictionary.
     key:
         A key already opened with :func:`open_key` (then ``p12_path`` is not read).
+    signing_time:
+        The time the signature states (aware datetime); default now. The record's face prints
+        the same time, so the writer passes the one it printed.
+    tsa_url:
+        A time-stamping authority (RFC 3161, over HTTP): its token on the signature value
+        vouches for the time (PAdES baseline T).
 
     Returns
     -------
     bytes
         The signed PDF.
-    """
-    from io import BytesIO
 
-    from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
+    Raises
+    ------
+    ReportError
+        The certificate is not valid at the signing time (expired or not yet valid), the key
+        cannot be opened, or the time-stamping authority does not answer properly.
+    """
     from pyhanko.sign import fields, signers
 
     if key is None:
         if p12_path is None:
             raise ReportError("no key to sign with")
         key = open_key(Path(p12_path), passphrase)
+    when = signing_time or _dt.datetime.now(_dt.UTC).replace(microsecond=0)
+    if key.certificate is not None:
+        check_valid_at(key.certificate, when, path=key.path)
     meta = signers.PdfSignatureMetadata(
         field_name=field_name,
         md_algorithm="sha256",
@@ -340,11 +381,49 @@ def sign_pdf(
         reason=reason,
         location=location,
     )
+    timestamper = None
+    if tsa_url is not None:
+        from pyhanko.sign.timestamps import HTTPTimeStamper
+
+        timestamper = HTTPTimeStamper(tsa_url, timeout=30)
     try:
+        return _run_signing(pdf_bytes, meta, key, when, timestamper)
+    except ReportError:
+        raise
+    except Exception as exc:  # pyHanko raises several types for unreadable input or a TSA
+        where = f" (time-stamping authority {tsa_url})" if tsa_url else ""
+        msg = " ".join(str(exc).split()) or type(exc).__name__
+        raise ReportError(f"cannot sign the document{where}: {msg}") from exc
+
+
+def _run_signing(pdf_bytes: bytes, meta: Any, key: SigningKey, when: _dt.datetime, tsa: Any):
+    """pyHanko's signing steps, with the signing session's time set to ``when``."""
+    import asyncio
+    from io import BytesIO
+
+    from pyhanko.pdf_utils.incremental_writer import IncrementalPdfFileWriter
+    from pyhanko.sign import signers
+    from pyhanko.sign.signers.pdf_cms import PdfCMSSignedAttributes
+
+    async def run() -> bytes:
         writer = IncrementalPdfFileWriter(BytesIO(pdf_bytes), strict=False)
-        out = signers.sign_pdf(
-            writer, meta, signer=key.signer, bytes_reserved=_signature_space(key.signer)
+        session = signers.PdfSigner(meta, signer=key.signer, timestamper=tsa).init_signing_session(
+            writer
         )
-    except Exception as exc:  # pyHanko raises several types for unreadable input
-        raise ReportError(f"cannot sign the document: {exc}") from exc
-    return out.getvalue()
+        session.system_time = when
+        info = await session.perform_presign_validation(writer)
+        if tsa is None:
+            reserved = _signature_space(key.signer)
+        else:  # the token's size depends on the authority's certificates: let pyHanko measure
+            reserved = await session.estimate_signature_container_size(info)
+        tbs = session.prepare_tbs_document(validation_info=info, bytes_reserved=reserved)
+        digest, output = tbs.digest_tbs_document()
+        post = await tbs.perform_signature(
+            document_digest=digest.document_digest,
+            pdf_cms_signed_attrs=PdfCMSSignedAttributes(signing_time=when),
+        )
+        await post.post_signature_processing(output)
+        output.seek(0)
+        return output.read()
+
+    return asyncio.run(run())

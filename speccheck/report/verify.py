@@ -17,6 +17,7 @@ Any verdict, zone or count that differs is a difference, so no decision can chan
 
 from __future__ import annotations
 
+import datetime as _dt
 import hashlib
 import json
 import math
@@ -48,15 +49,24 @@ MAX_RECORD_BYTES = 1 << 30
 
 @dataclass(frozen=True)
 class SignatureCheck:
-    """What the PDF signature says."""
+    """What the PDF signature says, and what it proves at the verification time."""
 
     present: bool
     intact: bool = False  # signed bytes unchanged and the cryptographic signature valid
     whole_file: bool = False  # no bytes after the signed range (no later incremental update)
-    trusted: bool | None = None  # None: no trust anchors given
+    trusted: bool | None = None  # None: no trust anchors given, or nothing intact to trust
     signer: str | None = None
-    signing_time: str | None = None  # as claimed by the signer (no timestamp authority)
+    signing_time: str | None = None  # UTC; from the timestamp token when there is one
+    time_source: str | None = None  # "signer's clock" or "timestamp token (RFC 3161)"
     certificate_sha256: str | None = None
+    valid_from: str | None = None  # the certificate's notBefore, UTC (RFC 5280 4.1.2.5)
+    valid_until: str | None = None  # its notAfter, UTC
+    time_in_validity: bool | None = None  # signing time within valid_from..valid_until
+    time_in_future: bool = False  # signing time later than the verification time
+    verified_at: str | None = None
+    timestamp_authority: str | None = None  # subject of the TSA certificate
+    timestamp_intact: bool | None = None  # None: no timestamp token
+    signatures: int = 0
     problem: str | None = None
 
 
@@ -154,16 +164,8 @@ def _normalised(result: dict[str, Any]) -> dict[str, Any]:
     return d
 
 
-def _check_signature(data: bytes, trust: Sequence[Path]) -> SignatureCheck:
-    import logging
-    from io import BytesIO
-
+def _trust_roots(trust: Sequence[Path]) -> list[Any]:
     from pyhanko.keys import load_cert_from_pemder
-    from pyhanko.pdf_utils.reader import PdfFileReader
-    from pyhanko.sign.validation import validate_pdf_signature
-    from pyhanko.sign.validation.errors import SignatureValidationError
-    from pyhanko.sign.validation.status import SignatureCoverageLevel
-    from pyhanko_certvalidator import ValidationContext
 
     roots = []
     for p in trust:
@@ -174,6 +176,40 @@ def _check_signature(data: bytes, trust: Sequence[Path]) -> SignatureCheck:
                 f"cannot read the certificate: {' '.join(str(exc).split()) or type(exc).__name__}",
                 path=str(p),
             ) from exc
+    return roots
+
+
+def _utc(t: Any) -> str:
+    return t.astimezone(_dt.UTC).strftime("%Y-%m-%d %H:%M:%S UTC")
+
+
+def _validate(sig: Any, roots: list[Any], moment: Any = None) -> Any:
+    """pyHanko's validation of one embedded signature, its log noise silenced."""
+    import logging
+
+    from pyhanko.sign.validation import validate_pdf_signature
+    from pyhanko_certvalidator import ValidationContext
+
+    vc = ValidationContext(trust_roots=roots, allow_fetching=False, moment=moment)
+    # pyHanko logs a full traceback for every untrusted certificate; the result says it in words
+    quiet = [logging.getLogger(n) for n in ("pyhanko", "pyhanko_certvalidator")]
+    levels = [q.level for q in quiet]
+    for q in quiet:
+        q.setLevel(logging.CRITICAL)
+    try:
+        return validate_pdf_signature(sig, vc)
+    finally:
+        for q, lv in zip(quiet, levels, strict=True):
+            q.setLevel(lv)
+
+
+def _check_signature(data: bytes, trust: Sequence[Path]) -> SignatureCheck:
+    from io import BytesIO
+
+    from pyhanko.pdf_utils.reader import PdfFileReader
+    from pyhanko.sign.validation.errors import SignatureValidationError
+
+    roots = _trust_roots(trust)
     try:
         reader = PdfFileReader(BytesIO(data), strict=False)
         sigs = list(reader.embedded_signatures)
@@ -181,56 +217,94 @@ def _check_signature(data: bytes, trust: Sequence[Path]) -> SignatureCheck:
         return SignatureCheck(present=False, problem=f"the PDF structure is damaged ({exc})")
     if not sigs:
         return SignatureCheck(present=False, problem="the record is not signed")
-    sig = sigs[-1]
-    vc = ValidationContext(trust_roots=roots, allow_fetching=False)
-    # pyHanko logs a full traceback for every untrusted certificate; the result says it in words
-    quiet = [logging.getLogger(n) for n in ("pyhanko", "pyhanko_certvalidator")]
-    levels = [q.level for q in quiet]
-    for q in quiet:
-        q.setLevel(logging.CRITICAL)
     try:
-        status = validate_pdf_signature(sig, vc)
+        status = _validate(sigs[0], [])
     except (SignatureValidationError, ValueError, KeyError, TypeError) as exc:
-        return SignatureCheck(present=True, problem=f"the signature cannot be validated ({exc})")
+        return SignatureCheck(
+            present=True,
+            signatures=len(sigs),
+            problem=f"the signature cannot be validated ({exc})",
+        )
     except Exception as exc:  # zlib and parser errors from a damaged signed range
         return SignatureCheck(
-            present=True, problem=f"the signed content is damaged ({type(exc).__name__}: {exc})"
+            present=True,
+            signatures=len(sigs),
+            problem=f"the signed content is damaged ({type(exc).__name__}: {exc})",
         )
-    finally:
-        for q, lv in zip(quiet, levels, strict=True):
-            q.setLevel(lv)
+    return _judge(sigs, status, roots)
+
+
+def _judge(sigs: list[Any], status: Any, roots: list[Any]) -> SignatureCheck:
+    """Integrity, coverage, time and trust of the record's (first) signature, in that order."""
+    from pyhanko.sign.validation.status import SignatureCoverageLevel
+
+    now = _dt.datetime.now(_dt.UTC)
     cert = status.signing_cert
-    signer = cert.subject.human_friendly if cert is not None else None
-    fp = cert.sha256.hex(":").upper() if cert is not None else None
-    when = status.signer_reported_dt
-    whole = status.coverage == SignatureCoverageLevel.ENTIRE_FILE
-    problem = None
-    if not (status.intact and status.valid):
-        problem = "the signed content was changed after signing (signature broken)"
-    elif not whole:
-        problem = "bytes were added after the signature (incremental update): they are not signed"
-    elif len(sigs) > 1 and not all(_intact(s, vc) for s in sigs[:-1]):
-        problem = "an earlier signature in the file is broken"
+    intact = bool(status.intact and status.valid)
+    ts = status.timestamp_validity
+    when = ts.timestamp if ts is not None else status.signer_reported_dt
+    start = cert.not_valid_before if cert is not None else None
+    end = cert.not_valid_after if cert is not None else None
+    in_window = None if when is None or start is None else bool(start <= when <= end)
+    future = bool(when is not None and when > now)
+    whole = status.coverage == SignatureCoverageLevel.ENTIRE_FILE and len(sigs) == 1
+    trusted = None
+    if roots and intact:
+        # trust is judged at the signing time, so that a record outlives its certificate
+        moment = when if (when is not None and in_window and not future) else None
+        trusted = bool(_validate(sigs[0], roots, moment).trusted)
+    problem = _signature_problem(status, intact, whole, len(sigs), ts, in_window, future)
     return SignatureCheck(
         present=True,
-        intact=bool(status.intact and status.valid),
+        intact=intact,
         whole_file=whole,
-        trusted=bool(status.trusted) if roots else None,
-        signer=signer,
-        signing_time=when.strftime("%Y-%m-%d %H:%M:%S UTC") if when else None,
-        certificate_sha256=fp,
+        trusted=trusted,
+        signer=cert.subject.human_friendly if cert is not None else None,
+        signing_time=_utc(when) if when is not None else None,
+        time_source=_time_source(when, ts),
+        certificate_sha256=cert.sha256.hex(":").upper() if cert is not None else None,
+        valid_from=_utc(start) if start is not None else None,
+        valid_until=_utc(end) if end is not None else None,
+        time_in_validity=in_window,
+        time_in_future=future,
+        verified_at=_utc(now),
+        timestamp_authority=ts.signing_cert.subject.human_friendly if ts is not None else None,
+        timestamp_intact=bool(ts.intact and ts.valid) if ts is not None else None,
+        signatures=len(sigs),
         problem=problem,
     )
 
 
-def _intact(sig: Any, vc: Any) -> bool:
-    from pyhanko.sign.validation import validate_pdf_signature
+def _time_source(when: Any, ts: Any) -> str | None:
+    if when is None:
+        return None
+    return "timestamp token (RFC 3161)" if ts is not None else "signer's clock"
 
-    try:
-        st = validate_pdf_signature(sig, vc)
-    except Exception:
-        return False
-    return bool(st.intact and st.valid)
+
+def _signature_problem(
+    status: Any, intact: bool, whole: bool, count: int, ts: Any, in_window: Any, future: bool
+) -> str | None:
+    """The first thing that keeps the signature from proving the record, in words."""
+    from pyhanko.sign.validation.status import SignatureCoverageLevel
+
+    if not status.intact:
+        return "the signed bytes were changed after signing (their hash no longer matches)"
+    if not intact:
+        return "the signature value does not match the signed bytes (signature broken)"
+    if count > 1:
+        return (
+            f"the file carries {count} signatures; a record is signed once, so something was "
+            "signed into it after it was made"
+        )
+    if status.coverage != SignatureCoverageLevel.ENTIRE_FILE:
+        return "bytes were added after the signature (incremental update): they are not signed"
+    if ts is not None and not (ts.intact and ts.valid):
+        return "the timestamp token is broken: the signing time is not vouched for"
+    if in_window is False:
+        return "the signing time lies outside the certificate's validity period"
+    if future:
+        return "the signing time is later than the verification time: the signer's clock is wrong"
+    return None
 
 
 def _sha256(data: bytes) -> str:
@@ -297,8 +371,12 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
         problems.append(
             "signer not trusted: the certificate does not match any --trust certificate"
         )
-    if signature.present and signature.trusted is None and not signature.problem:
-        warnings.append("signer not trusted: no --trust given (identity shown, not vouched for)")
+    if signature.present and signature.intact and not trust:
+        warnings.append(
+            "signer's identity unproven: no --trust given, and any self-made key can carry any "
+            "name; compare the certificate's SHA-256 fingerprint with the one the signer's "
+            "organisation publishes"
+        )
 
     # the attachments must be the files the result was computed from
     names = [spec_entry["name"]] + [e["name"] for e in profile_entries]

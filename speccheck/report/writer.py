@@ -291,6 +291,7 @@ def write_report(
     signer_role: str | None = None,
     demo_key: bool = False,
     read_options: Mapping[str, Any] | None = None,
+    tsa_url: str | None = None,
 ) -> ReportInfo:
     """Write the conformance record of ``result`` as a self-contained, optionally signed PDF.
 
@@ -316,12 +317,14 @@ def write_report(
     read_options:
         ``fmt``, ``dx``, ``decimal`` given to the profile reader when the files were evaluated;
         stored in the record so that a verifier reads the files the same way.
+    tsa_url:
+        A time-stamping authority (RFC 3161) whose token vouches for the signing time.
 
     Returns
     -------
     ReportInfo
     """
-    from speccheck.report.signing import open_key, sign_pdf
+    from speccheck.report.signing import check_valid_at, open_key, sign_pdf
 
     out_path = Path(out_path)
     read_options = {
@@ -334,10 +337,11 @@ def write_report(
     profile_bytes = _read_profiles(result, profile_paths)
 
     signer = key = None
+    now = _dt.datetime.now(_dt.UTC).replace(microsecond=0)
     if sign_p12 is not None:
         key = open_key(Path(sign_p12), passphrase)  # a wrong passphrase fails here, early
+        check_valid_at(key.certificate, now, path=key.path)  # so does an expired certificate
         signer = key.identity
-    now = _dt.datetime.now(_dt.UTC).replace(microsecond=0)
     if signer is not None:
         who = signer.name + (f" ({signer.organisation})" if signer.organisation else "")
         note = (
@@ -439,7 +443,7 @@ def write_report(
             reason += f"; signer role: {signer_role}"
         if demo_key:
             reason += "; DEMONSTRATION KEY"
-        pdf = sign_pdf(pdf, key=key, reason=reason)
+        pdf = sign_pdf(pdf, key=key, reason=reason, signing_time=now, tsa_url=tsa_url)
 
     atomic_write_bytes(out_path, pdf)
     return ReportInfo(
