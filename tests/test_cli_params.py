@@ -93,29 +93,35 @@ def test_csv_and_x3p_give_the_same_parameters(tmp_path, capsys):
 
 def test_default_cutoff_follows_iso4288_and_iso3274(tmp_path, capsys):
     """Ra = 2·1.2/π = 0.76 µm lies in the ISO 4288:1996 Table 1 row "> 0.1–2 µm" → λc 0.8 mm;
-    ISO 3274:1996 Table 1 then gives λs 2.5 µm. The procedure starts at 0.8 mm, so one step."""
+    ISO 3274:1996 Table 1 then gives λs 2.5 µm. The procedure starts at 0.8 mm; the
+    shorter-cut-off step (ISO 4288:1996 7.2.2) measures at 0.25 mm, where the 0.1 mm sine
+    passes 98.7 % (Ra 0.75 µm, still the 0.8 mm row): 0.8 mm stays. Taken as non-periodic."""
     write_csv(tmp_path / "s.csv", sine_profile())
-    status, d = run_json(capsys, tmp_path / "s.csv")
+    status, d = run_json(capsys, tmp_path / "s.csv", "--periodic", "false")
     assert status == 0
     assert d["conditions"]["lambda_c_mm"] == 0.8
     assert d["conditions"]["lambda_s_um"] == 2.5
     choice = d["cutoff_choice"]
     assert choice["settled"] is True
-    assert [s["lambda_c_mm"] for s in choice["steps"]] == [0.8]
+    assert [s["lambda_c_mm"] for s in choice["steps"]] == [0.8, 0.25]
     assert choice["estimate"]["lambda_c_mm"] == 0.8
-    assert choice["source"] == "ISO 4288:1996 clause 7 procedure on Ra"
+    assert choice["source"] == "ISO 4288:1996 7.2.2 procedure on Ra"
+    assert choice["periodic"] is False and choice["periodicity"] is None
 
 
 def test_default_cutoff_moves_rows(tmp_path, capsys):
     """A = 0.1 µm: Ra = 0.2/π = 0.064 µm, in the ISO 4288:1996 Table 1 row "> 0.02–0.1 µm" →
     λc 0.25 mm. Estimated at 0.8 mm, the procedure measures at 0.25 mm, where the 0.1 mm sine
-    still passes 1 − exp(−π(2.5α)²) = 98.7 % (ISO 16610-21), Ra 0.063 µm: same row, settled."""
+    still passes 1 − exp(−π(2.5α)²) = 98.7 % (ISO 16610-21), Ra 0.063 µm: same row, settled.
+    The shorter step at 0.08 mm passes 1 − exp(−π(α/1.25)²) = 35.8 %: Ra 0.023 µm lies in the
+    0.25 mm row, not the 0.08 mm one, so 0.25 mm stays."""
     write_csv(tmp_path / "fine.csv", sine_profile(amplitude_um=0.1))
-    status, d = run_json(capsys, tmp_path / "fine.csv")
+    status, d = run_json(capsys, tmp_path / "fine.csv", "--periodic", "false")
     assert status == 0
     assert d["cutoff_choice"]["estimate"]["lambda_c_mm"] == 0.8
     assert d["cutoff_choice"]["estimate"]["Ra_um"] == pytest.approx(0.2 / math.pi, rel=2e-3)
-    assert [s["lambda_c_mm"] for s in d["cutoff_choice"]["steps"]] == [0.25]
+    assert [s["lambda_c_mm"] for s in d["cutoff_choice"]["steps"]] == [0.25, 0.08]
+    assert d["cutoff_choice"]["steps"][1]["Ra_um"] == pytest.approx(0.2 / math.pi * 0.358, rel=5e-3)
     assert d["cutoff_choice"]["settled"] is True
     assert d["conditions"]["lambda_c_mm"] == 0.25
     assert d["conditions"]["evaluation_length_mm"] == pytest.approx(1.25)
@@ -203,10 +209,14 @@ def test_parametrised_values_and_table(tmp_path, capsys):
     }
     assert main(["params", str(path)]) == 0
     out = capsys.readouterr().out
-    assert "λc chosen by the ISO 4288:1996 clause 7 procedure on Ra" in out
+    assert "λc chosen by the ISO 4288:1996 7.2.1 procedure on RSm" in out
+    assert "periodic test: autocorrelation" in out
     assert "Amplitude" in out and "Stratified surfaces (ISO 13565-2)" in out
     ra_line = next(line for line in out.splitlines() if line.strip().startswith("Ra "))
-    ra = 2 * A_UM / math.pi * math.exp(-math.pi * (0.4697 * 2.5 / LAMBDA_UM) ** 2)
+    # periodic (a sine): RSm 0.1 mm lies in the ISO 4288:1996 Table 3 row > 0.04 – 0.13 mm,
+    # λc 0.25 mm, λs 2.5 µm (ISO 3274 Table 1); Gaussian transmissions (ISO 16610-21) of both
+    transmission = 1 - math.exp(-math.pi * (0.4697 * 250.0 / LAMBDA_UM) ** 2)
+    ra = 2 * A_UM / math.pi * math.exp(-math.pi * (0.4697 * 2.5 / LAMBDA_UM) ** 2) * transmission
     assert f"{ra:.4g}" in ra_line and "µm" in ra_line
     # the library reads the same file back: the command evaluated what is on disk
     assert read_profile(path).n_points == 12000

@@ -326,11 +326,24 @@ def _measure_from(table: dict[float, float]):
 
 
 def test_selection_settles_in_first_row():
-    # ISO 4288:1996 7.2.2: estimate Ra 0.5 → λc 0.8; measured 0.6 lies in > 0.1 – 2: done
-    measure, calls = _measure_from({0.8: 0.6})
+    # ISO 4288:1996 7.2.2: estimate Ra 0.5 → λc 0.8; measured 0.6 lies in > 0.1 – 2; the next
+    # shorter λc 0.25 gives 0.55, not in its row > 0.02 – 0.1 (Table 1): 0.8 mm stays
+    measure, calls = _measure_from({0.8: 0.6, 0.25: 0.55})
     sel = select_lambda_c("Ra", 0.5, measure)
-    assert sel.settled and sel.lambda_c_mm == 0.8 and calls == [0.8]
-    assert [s.row_lambda_c_mm for s in sel.steps] == [0.8]
+    assert sel.settled and sel.lambda_c_mm == 0.8 and calls == [0.8, 0.25]
+    assert [s.row_lambda_c_mm for s in sel.steps] == [0.8, 0.8]
+    assert "next shorter λc 0.25 mm" in sel.message
+
+
+def test_selection_takes_the_shorter_cutoff_when_its_value_fits_its_row():
+    # ISO 4288:1996 7.2.2 shorter-cut-off step (from memory), ISO 4288 Table 1 rows:
+    # at 0.8 mm Ra 0.15 lies in > 0.1 – 2 (0.8 mm); at 0.25 mm Ra 0.09 lies in > 0.02 – 0.1
+    # (0.25 mm): take 0.25 mm; at 0.08 mm Ra 0.05 is not in its row (≤ 0.02): 0.25 mm stays.
+    measure, calls = _measure_from({0.8: 0.15, 0.25: 0.09, 0.08: 0.05})
+    sel = select_lambda_c("Ra", 0.5, measure)
+    assert sel.settled and sel.lambda_c_mm == 0.25
+    assert calls == [0.8, 0.25, 0.08]
+    assert [s.row_lambda_c_mm for s in sel.steps] == [0.8, 0.25, 0.25]
 
 
 def test_selection_moves_rows_until_the_value_lies_in_its_row():

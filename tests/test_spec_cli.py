@@ -45,6 +45,7 @@ def test_explain_prints_each_setting_with_its_source(tmp_path, capsys):
     cut-off:    λc 0.8 mm — ISO 4288:1996 Table 1, Ra > 0.1 – 2 µm
     length:     5 sections of 0.8 mm = evaluation length 4 mm — ISO 4288:1996 4.4 default
     value:      mean of 5 section values (ISO 4287:1997) — convention iso1302 or asme
+    trace:      at least 5.6 mm (4 mm evaluated, 0.8 mm run-in and run-out each) — speccheck
     short-wave: λs 2.5 µm — ISO 3274:1996 Table 1
     filter:     Gaussian filter (ISO 16610-21) — ISO 1302 default
     form:       least-squares line removed first — speccheck default
@@ -86,7 +87,8 @@ def test_explain_sentence(tmp_path):
         "value is a maximum, λc 0.8 mm — ISO 4288:1996 Table 1, Ra > 0.1 – 2 µm, 5 sections of "
         "0.8 mm "
         "= evaluation length 4 mm — ISO 4288:1996 4.4 default, mean of 5 section values "
-        "(ISO 4287:1997) — convention iso1302 or asme, λs 2.5 µm — ISO 3274:1996 Table 1, "
+        "(ISO 4287:1997) — convention iso1302 or asme, at least 5.6 mm (4 mm evaluated, 0.8 mm "
+        "run-in and run-out each) — speccheck, λs 2.5 µm — ISO 3274:1996 Table 1, "
         "Gaussian filter (ISO 16610-21) — ISO 1302 default, least-squares line removed first — "
         "speccheck default, decision rule: guarded rejection (ISO 14253-1): exceeding only if "
         "outside the limit by more than U; U = 0.05 µm (k = 2) — uncertainty in the spec"

@@ -122,6 +122,14 @@ def _fmt(value: float | None) -> str:
     help="Definitions and default cut-off table: ISO 4287 / ISO 4288 (iso1302, asme) or "
     "ISO 21920-2 field parameters / ISO 21920-3 (iso21920).",
 )
+@click.option(
+    "--periodic",
+    type=click.Choice(["auto", "true", "false"]),
+    default="auto",
+    show_default=True,
+    help="Without --cutoff: choose λc by RSm for a periodic profile, by Ra otherwise "
+    "(ISO 4288 7.2); auto decides by the autocorrelation test and reports its evidence.",
+)
 @format_option
 @dx_option
 @decimal_option
@@ -137,6 +145,7 @@ def command(
     form: str,
     extra: tuple[str, ...],
     convention: str,
+    periodic: str,
     fmt: str | None,
     dx: str | None,
     decimal: str,
@@ -150,7 +159,7 @@ def command(
     """
     from speccheck.parameters.compute import InsufficientData, compute_parameters
     from speccheck.parameters.conditions import Conditions
-    from speccheck.parameters.cutoff import choose_lambda_c, lambda_s_for
+    from speccheck.parameters.cutoff import lambda_s_for
     from speccheck.profile import fill_dropouts
     from speccheck.readers import read_profile
 
@@ -173,31 +182,12 @@ def command(
         lambda_c_mm = _length_um(cutoff, "--cutoff") / 1000.0
         choice: dict[str, Any] = {"source": "--cutoff"}
     else:
-        try:
-            sel = choose_lambda_c(
-                z,
-                dx_um=dx_um,
-                lambda_s_um=ls_value,
-                sections=sections,
-                filter=filter_,
-                form=form,
-                table=table,
-            )
-        except SpeccheckError as exc:
-            raise SpeccheckError(f"default cut-off: {exc.message}", path=file) from None
-        if isinstance(sel, InsufficientData):
-            return _insufficient(file, sel, as_json)
-        lambda_c_mm = sel.lambda_c_mm
-        choice = {
-            "source": "ISO 4288:1996 clause 7 procedure on Ra"
-            + (" with the ISO 21920-3:2021 table" if table == "iso21920-3" else ""),
-            "settled": sel.selection.settled,
-            "message": sel.selection.message,
-            "estimate": {"lambda_c_mm": sel.estimate_lambda_c_mm, "Ra_um": sel.estimate_um},
-            "steps": [
-                {"lambda_c_mm": s.lambda_c_mm, "Ra_um": s.measured_um} for s in sel.selection.steps
-            ],
-        }
+        chosen = _default_cutoff(
+            file, z, dx_um, ls_value, sections, filter_, form, table, periodic, as_json
+        )
+        if isinstance(chosen, int):
+            return chosen
+        lambda_c_mm, choice = chosen
     try:
         lambda_s_um = lambda_s_for(lambda_c_mm, ls_value)
     except SpeccheckError as exc:
@@ -228,6 +218,7 @@ def command(
     out["diagnostics"] = [d.to_dict() for d in diagnose(result)]
     out["cutoff_choice"] = choice
     out["convention"] = convention
+    out["warnings"] = _spacing_warnings(dx_um, lambda_c_mm)
     src = profile.source
     out["source"] = {"path": src.path, "sha256": src.sha256, "format": src.format}
     if as_json:
@@ -235,6 +226,69 @@ def command(
     else:
         _print_table(out)
     return int(ExitStatus.CONFORMING)
+
+
+def _spacing_warnings(dx_um: float, lambda_c_mm: float) -> list[str]:
+    """A sampling spacing beyond ISO 3274:1996 Table 1 for λc (check leaves such values open)."""
+    from speccheck.evaluation.evaluator import max_spacing_for_um
+
+    limit = max_spacing_for_um(lambda_c_mm)
+    if dx_um <= limit * (1 + 1e-9):
+        return []
+    return [
+        f"sampling spacing {dx_um:g} µm exceeds the {limit:g} µm ISO 3274:1996 Table 1 allows "
+        f"for λc {lambda_c_mm:g} mm; check leaves such values undecided (other-conditions)"
+    ]
+
+
+def _default_cutoff(
+    file: str,
+    z: Any,
+    dx_um: float,
+    ls_value: Any,
+    sections: int,
+    filter_: str,
+    form: str,
+    table: str,
+    periodic: str,
+    as_json: bool,
+) -> tuple[float, dict[str, Any]] | int:
+    """λc by the ISO 4288 procedure and the record of how it was chosen (or an exit status)."""
+    from speccheck.parameters.compute import InsufficientData
+    from speccheck.parameters.cutoff import choose_lambda_c
+
+    mode: Any = "auto" if periodic == "auto" else periodic == "true"
+    try:
+        sel = choose_lambda_c(
+            z,
+            dx_um=dx_um,
+            lambda_s_um=ls_value,
+            sections=sections,
+            filter=filter_,
+            form=form,
+            table=table,
+            periodic=mode,
+        )
+    except SpeccheckError as exc:
+        raise SpeccheckError(f"default cut-off: {exc.message}", path=file) from None
+    if isinstance(sel, InsufficientData):
+        return _insufficient(file, sel, as_json)
+    key = f"{sel.parameter}_um"
+    clause = "7.2.1" if sel.periodic else "7.2.2"
+    ev = sel.periodicity
+    return sel.lambda_c_mm, {
+        "source": f"ISO 4288:1996 {clause} procedure on {sel.parameter}"
+        + (" with the ISO 21920-3:2021 table" if table == "iso21920-3" else ""),
+        "periodic": sel.periodic,
+        "periodic_source": f"--periodic {periodic}",
+        "periodicity": None
+        if ev is None
+        else {"correlation": ev.correlation, "lag_mm": ev.lag_mm, "evidence": ev.evidence},
+        "settled": sel.selection.settled,
+        "message": sel.selection.message,
+        "estimate": {"lambda_c_mm": sel.estimate_lambda_c_mm, key: sel.estimate_um},
+        "steps": [{"lambda_c_mm": s.lambda_c_mm, key: s.measured_um} for s in sel.selection.steps],
+    }
 
 
 def _insufficient(file: str, res: Any, as_json: bool) -> int:
@@ -276,10 +330,15 @@ def _print_table(out: dict[str, Any]) -> None:
     choice = out["cutoff_choice"]
     if choice["source"] != "--cutoff":
         est = choice["estimate"]
+        name = "RSm" if choice["periodic"] else "Ra"
+        if choice.get("periodicity"):
+            console.print(f"periodic test: {choice['periodicity']['evidence']}")
         console.print(
-            f"λc chosen by the {choice['source']}: estimate Ra {est['Ra_um']:.4g} µm at "
-            f"λc {est['lambda_c_mm']:g} mm; {choice['message']}"
+            f"λc chosen by the {choice['source']}: estimate {name} {est[name + '_um']:.4g} µm "
+            f"at λc {est['lambda_c_mm']:g} mm; {choice['message']}"
         )
+    for warning in out.get("warnings", []):
+        console.print(f"warning: {warning}")
     table = Table(box=None, pad_edge=False)
     shown = sections if len(sections) > 1 else []  # one section: its values are the values
     for col in ("parameter", "value", "unit", "basis", *(f"s{i + 1}" for i in range(len(shown)))):

@@ -112,22 +112,9 @@ def max_spacing_for_um(lambda_c_mm: float) -> float:
 def requirement_conditions(spec: LoadedSpec, req: Requirement) -> Conditions:
     """The measurement conditions of a requirement; SpecError at the requirement if impossible."""
     from speccheck.errors import SpeccheckError
-    from speccheck.parameters.conditions import Conditions
-    from speccheck.parameters.names import parse_parameter_name
 
-    parsed = parse_parameter_name(req.parameter)
-    if parsed is None:
-        raise SpecError(f"unknown parameter {req.parameter!r}", path=spec.path, where=req.location)
     try:
-        return Conditions(
-            lambda_c_mm=req.lambda_c_mm,
-            lambda_s_um=req.lambda_s_um,
-            sections=req.sections,
-            filter=req.filter,
-            form=req.form,
-            profile=parsed.letter,
-            definitions=req.definitions,
-        )
+        return req.conditions()
     except SpeccheckError as exc:
         raise SpecError(f"{req.text}: {exc.message}", path=spec.path, where=req.location) from exc
 

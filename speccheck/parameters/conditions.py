@@ -454,7 +454,7 @@ def select_lambda_c(
     *,
     table: str = "iso4288",
     periodic: bool = False,
-    max_steps: int = 6,
+    max_steps: int = 8,
 ) -> CutoffSelection:
     """Choose λc by the ISO 4288:1996 procedure for periodic and non-periodic profiles (clause 7).
 
@@ -481,39 +481,89 @@ def select_lambda_c(
 
     Notes
     -----
-    A value measured outside the table stops the procedure unsettled.
+    The shorter-cut-off step (ISO 4288:1996 7.2.2, from memory): once a value lies in the row
+    of the λc it was measured with, and the next shorter standard λc has not been measured,
+    the parameter is measured with that shorter λc too; if that value lies in the shorter
+    cut-off's own row, the shorter cut-off is used (and the step repeats from it). A value
+    measured outside the table stops the procedure unsettled.
     """
     lc = default_lambda_c_mm(parameter, estimate_um, table=table, periodic=periodic)
     steps: list[SelectionStep] = []
     used: list[float] = []
-    for _ in range(max_steps):
+
+    def row_of(value: float) -> float | None:
+        try:
+            return default_lambda_c_mm(parameter, value, table=table, periodic=periodic)
+        except SpeccheckError:
+            return None
+
+    while len(steps) < max_steps:
         used.append(lc)
         value = float(measure(lc))
-        try:
-            row = default_lambda_c_mm(parameter, value, table=table, periodic=periodic)
-        except SpeccheckError as exc:
-            steps.append(SelectionStep(lc, value, None))
-            return CutoffSelection(lc, False, tuple(steps), f"stopped: {exc.message}")
+        row = row_of(value)
         steps.append(SelectionStep(lc, value, row))
+        if row is None:
+            try:
+                default_lambda_c_mm(parameter, value, table=table, periodic=periodic)
+            except SpeccheckError as exc:
+                why = exc.message
+            return CutoffSelection(lc, False, tuple(steps), f"stopped: {why}")
         if row == lc:
-            return CutoffSelection(
-                lc,
-                True,
-                tuple(steps),
-                f"{parameter} {value:g} µm measured at λc {lc:g} mm lies in its row",
-            )
+            return _shorter_step(parameter, lc, value, measure, row_of, steps, used, max_steps)
         if row in used:
-            pair = sorted({lc, row})
-            chosen = pair[0]
-            return CutoffSelection(
-                chosen,
-                False,
-                tuple(steps),
-                f"oscillates between λc {pair[0]:g} and {pair[1]:g} mm "
-                f"({parameter} {value:g} µm at λc {lc:g} mm belongs to the {row:g} mm row); "
-                f"kept {chosen:g} mm, state lambda_c explicitly to settle it",
-            )
+            return _oscillation(parameter, lc, row, value, steps)
         lc = row
     return CutoffSelection(
         lc, False, tuple(steps), f"no settled row after {max_steps} measurements"
+    )
+
+
+def _oscillation(
+    parameter: str, lc: float, row: float, value: float, steps: list[SelectionStep]
+) -> CutoffSelection:
+    pair = sorted({lc, row})
+    return CutoffSelection(
+        pair[0],
+        False,
+        tuple(steps),
+        f"oscillates between λc {pair[0]:g} and {pair[1]:g} mm "
+        f"({parameter} {value:g} µm at λc {lc:g} mm belongs to the {row:g} mm row); "
+        f"kept {pair[0]:g} mm, state lambda_c explicitly to settle it",
+    )
+
+
+def _shorter_step(
+    parameter: str,
+    lc: float,
+    value: float,
+    measure: Callable[[float], float],
+    row_of: Callable[[float], float | None],
+    steps: list[SelectionStep],
+    used: list[float],
+    max_steps: int,
+) -> CutoffSelection:
+    """ISO 4288:1996 7.2.2 (from memory): try the next shorter λc once settled (see above)."""
+    note = ""
+    while len(steps) < max_steps:
+        shorter = [c for c in STANDARD_CUTOFFS_MM if c < lc * (1 - 1e-9)]
+        if not shorter or shorter[-1] in used:
+            break
+        s = shorter[-1]
+        used.append(s)
+        v = float(measure(s))
+        row = row_of(v)
+        steps.append(SelectionStep(s, v, row))
+        if row != s:
+            note = (
+                f"; at the next shorter λc {s:g} mm {parameter} {v:g} µm does not lie in "
+                f"that cut-off's row, so λc {lc:g} mm stays"
+            )
+            break
+        lc, value = s, v
+        note = f"; the shorter λc {s:g} mm was tried and its value lies in its own row"
+    return CutoffSelection(
+        lc,
+        True,
+        tuple(steps),
+        f"{parameter} {value:g} µm measured at λc {lc:g} mm lies in its row{note}",
     )

@@ -1,11 +1,14 @@
-"""Choosing λc for a measured trace when none is given (ISO 4288:1996 clause 7, non-periodic).
+"""Choosing λc for a measured trace when none is given (ISO 4288:1996 clause 7).
 
 The procedure itself is :func:`speccheck.parameters.conditions.select_lambda_c`; this module
-supplies the two things it needs from a real trace: a first estimate of Ra and a function that
-measures Ra with a trial λc.
+supplies the two things it needs from a real trace: a first estimate and a function that
+measures with a trial λc. A non-periodic profile is judged by Ra (ISO 4288:1996 7.2.2,
+Table 1), a periodic one by RSm (7.2.1, Table 3). ``periodic="auto"`` decides which by the
+autocorrelation test of :mod:`speccheck.parameters.periodicity`, run on the roughness profile of
+the first estimate, and reports its evidence.
 
-* Estimate: Ra measured with λc 0.8 mm if the trace is long enough for it, otherwise with the
-  longest standard cut-off the trace can hold (common practice, no source: 0.8 mm is the
+* Estimate: Ra (or RSm) measured with λc 0.8 mm if the trace is long enough for it, otherwise
+  with the longest standard cut-off the trace can hold (common practice, no source: 0.8 mm is the
   cut-off most machined surfaces end up with).
 * λs for each trial: ISO 3274:1996 Table 1 for that λc (``lambda_s_um="table"``), a fixed
   value, or none.
@@ -26,6 +29,7 @@ from speccheck.parameters.conditions import (
     default_lambda_s_um,
     select_lambda_c,
 )
+from speccheck.parameters.periodicity import Periodicity, periodicity
 
 __all__ = ["START_LAMBDA_C_MM", "TrialTooShort", "DefaultCutoff", "lambda_s_for", "choose_lambda_c"]
 
@@ -38,8 +42,11 @@ class DefaultCutoff:
     """λc chosen for a trace: the procedure's result and the first estimate it started from."""
 
     selection: CutoffSelection
-    estimate_lambda_c_mm: float  # λc the estimate of Ra was measured with
-    estimate_um: float  # that Ra, µm
+    estimate_lambda_c_mm: float  # λc the estimate was measured with
+    estimate_um: float  # that Ra or RSm, µm
+    parameter: str = "Ra"  # "Ra" (non-periodic) or "RSm" (periodic)
+    periodic: bool = False
+    periodicity: Periodicity | None = None  # the evidence when periodic="auto"
 
     @property
     def lambda_c_mm(self) -> float:
@@ -71,8 +78,9 @@ def choose_lambda_c(
     filter: str = "gaussian",
     form: str = "line",
     table: str = "iso4288",
+    periodic: bool | Literal["auto"] = False,
 ) -> DefaultCutoff | InsufficientData:
-    """Default λc for a trace by the ISO 4288:1996 procedure on Ra (ISO 4288:1996 7.2.2).
+    """Default λc for a trace by the ISO 4288:1996 procedure (ISO 4288:1996 7.2.1, 7.2.2).
 
     Parameters
     ----------
@@ -85,6 +93,9 @@ def choose_lambda_c(
     sections, filter, form : as :class:`Conditions`.
     table : str
         Cut-off table, ``"iso4288"`` or ``"iso21920-3"``.
+    periodic : bool or "auto"
+        True: by RSm (ISO 4288:1996 Table 3); False: by Ra (Table 1); "auto": by the
+        autocorrelation test (:func:`speccheck.parameters.periodicity.periodicity`).
 
     Returns
     -------
@@ -99,11 +110,11 @@ def choose_lambda_c(
             lc, lambda_s_for(lc, lambda_s_um), sections=sections, filter=filter, form=form
         )
 
-    def ra(lc: float) -> float:
+    def compute(lc: float):
         res = compute_parameters(z, dx_um=dx_um, conditions=conditions(lc))
         if isinstance(res, InsufficientData):
             raise TrialTooShort(lc, res)
-        return res.values["Ra"].value
+        return res
 
     fitting = [
         lc
@@ -116,8 +127,20 @@ def choose_lambda_c(
         return shortest
     start = START_LAMBDA_C_MM if START_LAMBDA_C_MM in fitting else fitting[-1]
     try:
-        estimate = ra(start)
-        return DefaultCutoff(select_lambda_c("Ra", estimate, ra, table=table), start, estimate)
+        first = compute(start)
+        evidence = None
+        if periodic == "auto":
+            evidence = periodicity(first.profiles.roughness_um, dx_um=dx_um)
+        is_periodic = bool(evidence) if periodic == "auto" else bool(periodic)
+        name = "RSm" if is_periodic else "Ra"
+        scale = 1000.0 if is_periodic else 1.0  # RSm is in mm; the tables read µm
+
+        def measure(lc: float) -> float:
+            return compute(lc).values[name].value * scale
+
+        estimate = first.values[name].value * scale
+        sel = select_lambda_c(name, estimate, measure, table=table, periodic=is_periodic)
+        return DefaultCutoff(sel, start, estimate, name, is_periodic, evidence)
     except TrialTooShort as exc:
         s = exc.shortage
         return InsufficientData(

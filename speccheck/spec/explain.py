@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from speccheck.spec.requirement import LoadedSpec, Requirement
 
-__all__ = ["explain_requirement", "explain_sentence", "explain_spec"]
+__all__ = ["explain_requirement", "explain_sentence", "explain_spec", "trace_lengths_note"]
 
 _FILTER_WORDS = {
     "gaussian": "Gaussian filter (ISO 16610-21)",
@@ -76,6 +76,46 @@ def _basis_words(req: Requirement) -> str:
     return f"{basis_words(parsed.base, req.definitions, sections)} — {src}"
 
 
+def _trace_mm(req: Requirement) -> float | None:
+    from speccheck.errors import SpeccheckError
+
+    try:
+        return req.conditions().required_trace_mm
+    except SpeccheckError:
+        return None
+
+
+def _trace_words(req: Requirement) -> str:
+    from speccheck.errors import SpeccheckError
+
+    try:
+        c = req.conditions()
+    except SpeccheckError as exc:
+        return f"cannot be evaluated: {exc.message}"
+    return (
+        f"at least {c.required_trace_mm:g} mm ({c.evaluation_length_mm:g} mm evaluated, "
+        f"{c.run_in_mm:g} mm run-in and run-out each) — speccheck"
+    )
+
+
+def trace_lengths_note(requirements: tuple[Requirement, ...] | list[Requirement]) -> str | None:
+    """One line when the requirements need traces of different lengths, else None.
+
+    The longest trace serves every requirement (each is evaluated on its own centred window),
+    the shorter ones only some: the line names each requirement's length.
+    """
+    lengths = [(i, r, _trace_mm(r)) for i, r in enumerate(requirements, start=1)]
+    known = [(i, r, t) for i, r, t in lengths if t is not None]
+    if len({t for _, _, t in known}) < 2:
+        return None
+    each = ", ".join(f"[{i}] {r.text}: {t:g} mm (λc {r.lambda_c_mm:g} mm)" for i, r, t in known)
+    longest = max(t for _, _, t in known)
+    return (
+        f"the requirements need traces of different lengths: {each}; a trace of {longest:g} mm "
+        "serves all, each requirement evaluated on its own centred window"
+    )
+
+
 def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
     """(label, text) pairs for ``req``; each setting is followed by " — " and its source."""
     rule_words = "16 % rule" if req.rule == "16%" else "max rule (no measured value may exceed)"
@@ -100,6 +140,7 @@ def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
             f"{req.evaluation_length_mm:g} mm — {req.sections_source}",
         ),
         ("value", _basis_words(req)),
+        ("trace", _trace_words(req)),
         ("short-wave", ls),
         ("filter", f"{_FILTER_WORDS[req.filter]} — {req.filter_source}"),
         ("form", f"{_form_words(req.form)} removed first — {req.form_source}"),
@@ -148,6 +189,9 @@ def explain_spec(spec: LoadedSpec) -> str:
         width = max(len(label) for label, _ in explain_requirement(req))
         for label, text in explain_requirement(req):
             lines.append(f"    {label + ':':<{width + 1}} {text}")
+    note = trace_lengths_note(spec.requirements)
+    if note:
+        lines += ["", f"Traces: {note}."]
     if spec.notes:
         lines += ["", f"Notes: {spec.notes.strip()}"]
     lines += [

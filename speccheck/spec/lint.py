@@ -18,6 +18,7 @@ from speccheck.diagnostics import sensitive_parameter_advice
 from speccheck.errors import SpeccheckError, SpecError
 from speccheck.parameters.names import parse_parameter_name
 from speccheck.spec._yaml import Document, KeyPath
+from speccheck.spec.explain import trace_lengths_note
 from speccheck.spec.loader import check_spec
 from speccheck.spec.requirement import Requirement
 from speccheck.spec.resolve import iso3274_lambda_s_um, standard_cutoffs_mm
@@ -159,6 +160,10 @@ def lint_file(path: str | Path) -> list[Finding]:
         at = next((r for r in sensitive if r.parameter in text), sensitive[0])
         a_line, a_col = _req_position(at)
         add(a_line, a_col, "warning", text)
+    note = trace_lengths_note(spec.requirements)
+    if note and spec.requirements:
+        t_line, t_col = _req_position(spec.requirements[0])
+        add(t_line, t_col, "warning", note)
     order = {"error": 0, "warning": 1}
     findings.sort(key=lambda f: (f.line or 0, f.col or 0, order[f.severity]))
     return findings

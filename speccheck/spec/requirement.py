@@ -8,7 +8,12 @@ in ``Requirement.unit`` (the parameter's unit), lengths carry their unit in thei
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
+
+from speccheck.errors import SpeccheckError
+
+if TYPE_CHECKING:
+    from speccheck.parameters.conditions import Conditions
 
 __all__ = ["Requirement", "LoadedSpec", "Convention", "DecisionRule", "Rule"]
 
@@ -47,6 +52,27 @@ class Requirement:
     # Which edition defines the parameter's value: "iso4287" (ISO 4287:1997 section means; also
     # used under the ASME convention) or "iso21920-2" (ISO 21920-2:2021 field parameters).
     definitions: Literal["iso4287", "iso21920-2"] = "iso4287"
+
+    def conditions(self) -> Conditions:
+        """The measurement conditions this requirement is evaluated under (one place for all).
+
+        Raises SpeccheckError (from Conditions) when the settings cannot go together.
+        """
+        from speccheck.parameters.conditions import Conditions
+        from speccheck.parameters.names import parse_parameter_name
+
+        parsed = parse_parameter_name(self.parameter)
+        if parsed is None:
+            raise SpeccheckError(f"unknown parameter {self.parameter!r}")
+        return Conditions(
+            lambda_c_mm=self.lambda_c_mm,
+            lambda_s_um=self.lambda_s_um,
+            sections=self.sections,
+            filter=self.filter,
+            form=self.form,
+            profile=parsed.letter,
+            definitions=self.definitions,
+        )
 
     @property
     def evaluation_length_mm(self) -> float:

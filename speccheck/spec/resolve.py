@@ -68,10 +68,12 @@ _TABLE_NAMES = {
 }
 
 
-def _table_cutoff(parameter: str, value_um: float, table: str) -> tuple[float, str]:
+def _table_cutoff(
+    parameter: str, value_um: float, table: str, periodic: bool = False
+) -> tuple[float, str]:
     """Default λc in mm and its source, e.g. (0.8, "ISO 4288:1996 Table 1, Ra > 0.1 – 2 µm")."""
     c = _conditions()
-    row = c.cutoff_row(parameter, value_um, table=table)
+    row = c.cutoff_row(parameter, value_um, table=table, periodic=periodic)
     name = _TABLE_NAMES.get((table, row.column), table)
     read_as = "" if parameter == row.column else f" (column used for {parameter})"
     return float(row.lambda_c_mm), f"{name}, {row.column} {row.bounds_text()}{read_as}"
@@ -476,7 +478,7 @@ class _Resolver:
             raise self.err(kp, f"no default cut-off can be read from a limit of {name}: {how}")
         value_um = value * 1000.0 if unit == "mm" else value
         try:
-            return _table_cutoff(name, value_um, table)
+            return _table_cutoff(name, value_um, table, bool(self.spec.measurement.periodic))
         except SpeccheckError as exc:
             reason = exc.message.split(";")[0]
             raise self.err(kp, f"{reason}: {how}") from None
