@@ -334,11 +334,12 @@ def test_parameter_not_computed_on_flat_profile(tmp_path):
 
 
 def test_guarded_rule_without_uncertainty_is_a_spec_error(tmp_path):
-    spec = write_spec(tmp_path, '- "Ra 0.8"\n', "decision_rule: guarded-acceptance\n")
+    # refused when the spec is resolved, so that lint and check refuse it alike
     with pytest.raises(
         SpecError,
         match=r"spec\.yaml:6:5: Ra 0\.8: decision rule guarded-acceptance needs",
     ):
+        spec = write_spec(tmp_path, '- "Ra 0.8"\n', "decision_rule: guarded-acceptance\n")
         evaluate(spec, [sine(1.0)])
 
 

@@ -131,17 +131,22 @@ def test_no_warning_when_a_stable_parameter_is_also_controlled(tmp_path, stable)
     assert lint_file(path) == []
 
 
-def test_guarded_rule_without_uncertainty_and_unused_uncertainty_warn(tmp_path):
+def test_guarded_rule_without_uncertainty_is_the_error_check_gives(tmp_path):
     path = write(
         tmp_path,
         "decision_rule: guarded-acceptance\nrequirements:\n  - Ra 0.8\nuncertainty:\n  Rq: "
         "0.02um\n",
     )
     assert [str(f) for f in lint_file(path)] == [
-        f"{path}:8:5: warning: decision rule guarded-acceptance but no uncertainty for Ra: the "
-        "guard band "
-        "is zero (add it under 'uncertainty')",
-        f"{path}:10:3: warning: uncertainty for Rq but no requirement on Rq",
+        f"{path}:8:5: Ra 0.8: decision rule guarded-acceptance needs the expanded uncertainty U "
+        "of Ra (add it under 'uncertainty')",
+    ]
+
+
+def test_unused_uncertainty_warns(tmp_path):
+    path = write(tmp_path, "requirements:\n  - Ra 0.8\nuncertainty:\n  Rq: 0.02um\n")
+    assert [str(f) for f in lint_file(path)] == [
+        f"{path}:9:3: warning: uncertainty for Rq but no requirement on Rq",
     ]
 
 

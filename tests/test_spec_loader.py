@@ -121,7 +121,7 @@ def test_unknown_key_points_at_the_key(tmp_path):
     )
     assert error_of(path) == (
         f"{path}:9:5: unknown key 'tolerance' in requirements[0] (allowed: parameter, "
-        "upper, lower, rule, cutoff, ls, sections, filter, form)"
+        "upper, lower, rule, cutoff, ls, lf, sections, filter, form)"
     )
 
 

@@ -425,6 +425,8 @@ def _requirement_result(
         "lambda_c_source": req.lambda_c_source,
         "lambda_s_um": cond.lambda_s_um,
         "lambda_s_source": req.lambda_s_source,
+        "lambda_f_mm": cond.lambda_f_mm,
+        "lambda_f_source": req.lambda_f_source or None,
         "sections": cond.sections,
         "evaluation_length_mm": cond.evaluation_length_mm,
         "required_trace_mm": cond.required_trace_mm,

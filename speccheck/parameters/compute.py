@@ -7,8 +7,8 @@ Pipeline (:func:`compute_parameters`)
 3. mean line of P at λc: Gaussian (ISO 16610-21), robust Gaussian regression (ISO 16610-31,
    order 2 or 0) or the ISO 13565-1 reference line, by ``conditions.filter``;
 4. the evaluated profile: R = P − mean line; W = mean line at λc − mean line at λf (λf is the
-   waviness section length); P = the primary profile itself (its mean line is the form removed
-   in step 1);
+   waviness section length); P = the primary profile less the least-squares line of the
+   evaluated portion;
 5. the evaluation length, ``sections`` × section length, centred in the trace
    (:meth:`Conditions.evaluation_slice`); run-in and run-out only feed the filters;
 6. section parameters on the sections as rows of a 2-D array, averaged over the sections
@@ -21,7 +21,8 @@ Pipeline (:func:`compute_parameters`)
 
 The P profile is evaluated over the evaluation length as **one** section (ISO 4287:1997 3.1.9:
 the primary sampling length equals the evaluation length), so its section parameters equal
-their evaluation-length values.
+their evaluation-length values; its heights are measured from the least-squares line of the
+evaluated portion.
 
 The Rk family (ISO 13565-2) and Rpq, Rvq, Rmq (ISO 13565-3) are computed on the roughness
 profile of the ISO 13565-1 reference line (valley-suppressed Gaussian), or on the robust
@@ -189,7 +190,8 @@ def evaluated_profile(
     """Steps 1-4 of the pipeline over the whole trace: (primary_um, mean_line_um, evaluated_um).
 
     For R the evaluated profile is P − mean line at λc; for W the mean line at λc minus the mean
-    line at λf; for P the primary profile (and a zero mean line).
+    line at λf; for P the primary profile less its mean line, the least-squares line of the
+    evaluated portion (:func:`_primary_mean_line`).
     """
     from speccheck.filters import gaussian_lowpass, gaussian_mean_line, remove_form
 
@@ -200,13 +202,34 @@ def evaluated_profile(
     else:
         primary = np.array(residual, dtype=np.float64)
     if conditions.profile == "P":
-        return primary, np.zeros_like(primary), primary
+        line = _primary_mean_line(primary, dx_um, conditions)
+        return primary, line, primary - line
     line = _mean_line(primary, dx_um, conditions)
     if conditions.profile == "W":
         assert conditions.lambda_f_mm is not None  # Conditions insists on λf for W
         long = gaussian_mean_line(primary, dx_um=dx_um, cutoff_um=conditions.lambda_f_mm * 1000.0)
         return primary, long, line - long
     return primary, line, primary - line
+
+
+def _primary_mean_line(primary: np.ndarray, dx_um: float, conditions: Conditions) -> np.ndarray:
+    """Mean line of the P profile: least-squares line of the evaluated portion (ISO 4287:1997
+    3.1.8.3, from memory), extended over the whole trace for plots.
+
+    The nominal form (``conditions.form``) has already been removed over the whole trace; for a
+    line form the result is exactly the least-squares line of the evaluated portion of the
+    λs-filtered trace. For arcs and polynomials it is that form plus a line refitted over the
+    evaluated portion. A trace too short for the evaluation length keeps a zero line (it is not
+    evaluated).
+    """
+    ev = conditions.evaluation_slice(primary.size, dx_um)
+    if ev is None:
+        return np.zeros_like(primary)
+    x = np.arange(primary.size, dtype=np.float64)
+    xe = x[ev] - x[ev].mean()
+    ye = primary[ev]
+    slope = float(np.dot(xe, ye - ye.mean()) / np.dot(xe, xe))
+    return ye.mean() + slope * (x - x[ev].mean())
 
 
 def _section_rows(profile: np.ndarray, start: int, n_sec: int, m: int, margin: int) -> np.ndarray:

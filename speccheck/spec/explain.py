@@ -116,6 +116,18 @@ def trace_lengths_note(requirements: tuple[Requirement, ...] | list[Requirement]
     )
 
 
+def _waviness_band(req: Requirement) -> list[tuple[str, str]]:
+    if req.lambda_f_mm is None:
+        return []
+    return [
+        (
+            "band",
+            f"waviness band λc {req.lambda_c_mm:g} mm – λf {req.lambda_f_mm:g} mm "
+            f"(W = mean line at λc − mean line at λf) — {req.lambda_f_source}",
+        )
+    ]
+
+
 def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
     """(label, text) pairs for ``req``; each setting is followed by " — " and its source."""
     rule_words = "16 % rule" if req.rule == "16%" else "max rule (no measured value may exceed)"
@@ -126,6 +138,7 @@ def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
         if req.lambda_s_um is not None
         else f"no λs filter — {req.lambda_s_source}"
     )
+    section = req.lambda_f_mm if req.lambda_f_mm is not None else req.lambda_c_mm
     if req.uncertainty is not None:
         u = f"U = {_num(req.uncertainty, req.unit)} (k = 2) — {req.uncertainty_source}"
     else:
@@ -136,12 +149,13 @@ def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
         ("cut-off", f"λc {req.lambda_c_mm:g} mm — {req.lambda_c_source}"),
         (
             "length",
-            f"{req.sections} sections of {req.lambda_c_mm:g} mm = evaluation length "
-            f"{req.evaluation_length_mm:g} mm — {req.sections_source}",
+            f"{req.sections} sections of {section:g} mm = evaluation length "
+            f"{req.sections * section:g} mm — {req.sections_source}",
         ),
         ("value", _basis_words(req)),
         ("trace", _trace_words(req)),
         ("short-wave", ls),
+        *_waviness_band(req),
         ("filter", f"{_FILTER_WORDS[req.filter]} — {req.filter_source}"),
         ("form", f"{_form_words(req.form)} removed first — {req.form_source}"),
         ("decision", f"{_DECISION_WORDS[req.decision_rule]}; {u}"),

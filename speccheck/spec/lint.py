@@ -4,8 +4,10 @@ Errors (the file must be fixed): everything :func:`speccheck.spec.loader.check_s
 (YAML, schema, callout grammar, unknown parameters, limits ≤ 0 or in the wrong order, values
 without units, ISO 21920 without a stated rule, zero sections) and a cut-off outside the standard
 series. Warnings (the file can be used): a λs/λc pair that is not the ISO 3274 one, a surface
-controlled only through a parameter that rests on a few points, a guarded decision rule without
-an uncertainty, an uncertainty no requirement uses.
+controlled only through a parameter that rests on a few points, an uncertainty no requirement
+uses, requirements that need traces of different lengths. A guarded decision rule without U and
+measurement conditions that cannot go together are errors, found by the same resolution
+``check`` runs.
 """
 
 from __future__ import annotations
@@ -129,15 +131,11 @@ def lint_file(path: str | Path) -> list[Finding]:
                     f"Table 1 pair (λs {expected:g} µm); results differ from a standard "
                     "measurement",
                 )
-        if req.decision_rule != "simple" and req.uncertainty is None:
+        try:  # the conditions check evaluates under: refused here exactly as there
+            req.conditions()
+        except SpeccheckError as exc:
             r_line, r_col = _req_position(req)
-            add(
-                r_line,
-                r_col,
-                "warning",
-                f"decision rule {req.decision_rule} but no uncertainty for {req.parameter}: "
-                "the guard band is zero (add it under 'uncertainty')",
-            )
+            add(r_line, r_col, "error", f"{req.text}: {exc.message}")
     if check.model is not None:
         for key in check.model.uncertainty:
             parsed = parse_parameter_name(str(key))

@@ -86,6 +86,9 @@ class RequirementFields(_Strict):
     rule: Literal["16%", "max"] | None = None
     cutoff: ValueText | None = Field(default=None, description="λc with unit, e.g. '0.8mm'.")
     ls: ValueText | None = Field(default=None, description="λs with unit, or 'none'.")
+    lf: ValueText | None = Field(
+        default=None, description="λf with unit (W parameters only; never assumed), e.g. '8mm'."
+    )
     sections: int | None = Field(default=None, ge=1)
     filter: Literal["gaussian", "robust"] | None = None
     form: Form | None = None

@@ -52,6 +52,9 @@ class Requirement:
     # Which edition defines the parameter's value: "iso4287" (ISO 4287:1997 section means; also
     # used under the ASME convention) or "iso21920-2" (ISO 21920-2:2021 field parameters).
     definitions: Literal["iso4287", "iso21920-2"] = "iso4287"
+    # Long-wave cut-off λf of a waviness (W) requirement, with its source; None for R and P.
+    lambda_f_mm: float | None = None
+    lambda_f_source: str = ""
 
     def conditions(self) -> Conditions:
         """The measurement conditions this requirement is evaluated under (one place for all).
@@ -67,6 +70,7 @@ class Requirement:
         return Conditions(
             lambda_c_mm=self.lambda_c_mm,
             lambda_s_um=self.lambda_s_um,
+            lambda_f_mm=self.lambda_f_mm,
             sections=self.sections,
             filter=self.filter,
             form=self.form,

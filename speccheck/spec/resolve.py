@@ -229,6 +229,16 @@ class _Resolver:
         for _i, fields in pending:
             name = fields["parameter"]
             u = u_map.get(name)
+            if fields["decision_rule"] != "simple" and u is None:
+                self.errors.append(
+                    SpecError(
+                        f"{fields['text']}: decision rule {fields['decision_rule']} needs the "
+                        f"expanded uncertainty U of {name} (add it under 'uncertainty')",
+                        path=self.path,
+                        where=fields["location"],
+                    )
+                )
+                continue
             fields["uncertainty"] = u
             fields["uncertainty_source"] = (
                 "uncertainty in the spec" if u is not None else "not given"
@@ -254,6 +264,9 @@ class _Resolver:
             parsed, written = c.parameter, c.parameter_text
             upper, lower, rule_written, filter_written = c.upper, c.lower, c.rule, c.filter
             band_lc, band_ls = c.lambda_c_mm, c.lambda_s_mm
+            band_lf = None
+            if parsed.letter == "W":  # ISO 1302 waviness band λc-λf (from memory)
+                band_lc, band_lf, band_ls = c.lambda_s_mm, c.lambda_c_mm, None
             rule_written_source = f"'{c.rule}' in the callout" if c.rule else ""
             text = item
             where_value: dict[str, KeyPath] = {
@@ -286,7 +299,12 @@ class _Resolver:
             rule_written = item.rule
             rule_written_source = "stated in the spec" if item.rule else ""
             filter_written = item.filter
-            band_lc = band_ls = None
+            band_lc = band_ls = band_lf = None
+            if item.lf is not None:
+                try:
+                    band_lf = parse_limit(item.lf, "mm", "lf")
+                except ValueError as exc:
+                    raise self.err((*kp, "lf"), str(exc)) from None
             if item.cutoff is not None:
                 try:
                     req_lc = parse_limit(item.cutoff, "mm", "cutoff")
@@ -321,6 +339,7 @@ class _Resolver:
                 "rule": (*kp, "rule") if item.rule else kp,
             }
         name, unit = parsed.name, parsed.info.unit
+        lf_fields = self.waviness_band(kp, parsed, band_lf, isinstance(item, str))
 
         # limits: sign, percentage range, order
         for side, limit in (("upper", upper), ("lower", lower)):
@@ -443,6 +462,8 @@ class _Resolver:
                 filt if filter_written else None,
                 ls if (req_ls is not None) else None,
                 req_lc,
+                lf_fields.get("lambda_f_mm"),
+                lc,
             )
         line, col = self.doc.position(kp)
         return {
@@ -467,7 +488,29 @@ class _Resolver:
             "filter_source": filter_source,
             "form_source": form_source,
             "definitions": "iso21920-2" if conv == "iso21920" else "iso4287",
+            **lf_fields,
         }
+
+    def waviness_band(
+        self, kp: KeyPath, parsed: ParsedName, lf_mm: float | None, callout: bool
+    ) -> dict[str, Any]:
+        """λf of a W requirement (never assumed) or a refusal of λf on R and P requirements."""
+        if parsed.letter != "W":
+            if lf_mm is not None:
+                raise self.err(kp, f"λf applies to waviness (W) parameters only, not {parsed.name}")
+            return {}
+        if lf_mm is None:
+            how = "a band λc-λf in mm such as '0.8-8/" if callout else "'lf' such as '8mm' ("
+            raise self.err(
+                kp,
+                f"{parsed.name} is a waviness parameter: state its transmission band with "
+                + (f"{how}{parsed.name} ...'" if callout else f"{how}and 'cutoff' for λc)")
+                + "; no λf is assumed",
+            )
+        if lf_mm <= 0:
+            raise self.err(kp, "λf must be greater than 0")
+        source = "transmission band in the callout" if callout else "lf in the requirement"
+        return {"lambda_f_mm": lf_mm, "lambda_f_source": source}
 
     def table_cutoff(
         self, kp: KeyPath, parsed: ParsedName, value: float | None, table: str
@@ -496,12 +539,21 @@ def render_callout(
     filter_: str | None,
     lambda_s_um: float | None,
     lambda_c_mm: float | None,
+    lambda_f_mm: float | None = None,
+    resolved_lambda_c_mm: float | None = None,
 ) -> str:
-    """A mapping-form requirement written in the callout grammar (it parses back to itself)."""
+    """A mapping-form requirement written in the callout grammar (it parses back to itself).
+
+    A waviness requirement is written with its band λc-λf (ISO 1302, from memory), λc as
+    resolved; λs is then not part of the text.
+    """
     head = ""
     if filter_ is not None:
         head += '"Gaussian" ' if filter_ == "gaussian" else '"robust" '
-    if lambda_s_um is not None or lambda_c_mm is not None:
+    if lambda_f_mm is not None:
+        lc_w = "" if resolved_lambda_c_mm is None else f"{resolved_lambda_c_mm:g}"
+        head += f"{lc_w}-{lambda_f_mm:g}/"
+    elif lambda_s_um is not None or lambda_c_mm is not None:
         ls = f"{lambda_s_um / 1000.0:g}" if lambda_s_um is not None else ""
         lc = f"{lambda_c_mm:g}" if lambda_c_mm is not None else ""
         head += f"{ls}-{lc}/"
