@@ -16,7 +16,27 @@ from functools import lru_cache
 
 from speccheck.errors import SpeccheckError
 
-__all__ = ["Length", "UM_PER_UNIT", "um_per_unit", "parse_length", "canonical_unit"]
+__all__ = [
+    "Length",
+    "UM_PER_UNIT",
+    "um_per_unit",
+    "parse_length",
+    "canonical_unit",
+    "DRAWING_UNITS",
+    "UM_PER_UIN",
+    "to_drawing_unit",
+]
+
+#: 1 µin = 0.0254 µm exactly (1 in = 25.4 mm, NIST SP 811 appendix B).
+UM_PER_UIN = 0.0254
+#: Units a drawing states its height limits in: spec spelling -> display symbol.
+DRAWING_UNITS = {"um": "µm", "uin": "µin"}
+
+
+def to_drawing_unit(value_um: float, drawing_unit: str) -> float:
+    """A height in µm expressed in the drawing's unit (``"µm"`` or ``"µin"``)."""
+    return value_um / UM_PER_UIN if drawing_unit == "µin" else value_um
+
 
 # Micrometres per one of the unit. Exact by definition (SI prefixes; inch: NIST SP 811).
 UM_PER_UNIT: dict[str, float] = {

@@ -69,8 +69,7 @@ def test_schema_errors_are_all_listed(tmp_path, capsys):
     assert capsys.readouterr().out.splitlines() == [
         f"{path}:6:1: requirements: List should have at least 1 item after validation, not 0",
         f"{path}:8:3: measurement.sections: Input should be greater than or equal to 1",
-        f"{path}:9:1: unknown key 'units' (allowed: spec_version, part, requirements, measurement, "
-        "convention, decision_rule, uncertainty, diagnostics, sampling, notes)",
+        f"{path}:9:1: units: Input should be 'um' or 'uin'",
     ]
 
 

@@ -75,11 +75,12 @@ def test_examples_lint_and_check_agree(spec, profile, capsys):
     convention=st.sampled_from(["iso1302", "iso21920", "asme"]),
     decision=st.sampled_from(["simple", "guarded-acceptance", "guarded-rejection"]),
     with_u=st.booleans(),
+    units=st.sampled_from([None, "um", "uin"]),
     cutoff=st.sampled_from([None, "0.8mm", "2.5mm", "0.7mm"]),
     reqs=st.lists(st.sampled_from(CALLOUTS), min_size=1, max_size=3),
 )
 def test_generated_specs_lint_exit_2_iff_check_exit_2(
-    tmp_path, profile, capsys, convention, decision, with_u, cutoff, reqs
+    tmp_path, profile, capsys, convention, decision, with_u, units, cutoff, reqs
 ):
     lines = [
         "spec_version: 1",
@@ -87,6 +88,8 @@ def test_generated_specs_lint_exit_2_iff_check_exit_2(
         f"convention: {convention}",
         f"decision_rule: {decision}",
     ]
+    if units:
+        lines.append(f"units: {units}")
     if cutoff:
         lines.append(f"measurement: {{cutoff: {cutoff}}}")
     if with_u:

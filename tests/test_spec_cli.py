@@ -77,7 +77,7 @@ def test_explain_states_a_fixed_sample(tmp_path, capsys):
 def test_explain_sentence(tmp_path):
     path = write(
         tmp_path,
-        "convention: asme\ndecision_rule: guarded-rejection\nuncertainty: "
+        "convention: asme\nunits: um\ndecision_rule: guarded-rejection\nuncertainty: "
         "{Ra: 0.05um}\nrequirements:\n  - Ra 0.4\n",
     )
     (req,) = load_spec(path).requirements

@@ -121,7 +121,7 @@ def test_unknown_key_points_at_the_key(tmp_path):
     )
     assert error_of(path) == (
         f"{path}:9:5: unknown key 'tolerance' in requirements[0] (allowed: parameter, "
-        "upper, lower, rule, cutoff, ls, lf, sections, filter, form)"
+        "upper, lower, rule, cutoff, ls, units, lf, sections, filter, form)"
     )
 
 
@@ -347,7 +347,7 @@ def test_band_and_measurement_precedence(tmp_path):
 
 
 def test_asme_single_value_is_a_maximum(tmp_path):
-    req = one_requirement(tmp_path, "Ra 0.4", "convention: asme\n")
+    req = one_requirement(tmp_path, "Ra 0.4", "convention: asme\nunits: um\n")
     assert (req.rule, req.rule_source) == ("max", "ASME Y14.36: a single value is a maximum")
     assert req.cutoff_table == "iso4288"
 

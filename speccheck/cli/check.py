@@ -62,7 +62,8 @@ def _values_text(req: Any) -> str:
         mark = f" ({beyond})" if v.counts_as == "exceeding" else ""
         if v.zone == "uncertain":  # within ±U of a limit: say how the decision rule counted it
             mark = f" (±U, counted {'exceeding' if v.counts_as == 'exceeding' else 'within'})"
-        target.append(f"{_num(v.value)}{mark}")
+        shown = v.drawing_value if v.drawing_value is not None else v.value
+        target.append(f"{_num(shown)}{mark}")
     text = ", ".join(counted) or "none"
     if late:  # ISO 4288 5.2: measured after the step procedure had decided, not counted
         text += "; after the decision: " + ", ".join(late)
@@ -106,10 +107,12 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
     table.add_column("rule")
     table.add_column("verdict")
     for i, req in enumerate(result.requirements, start=1):
-        unit = f" {req.unit}" if req.unit else ""
+        shown = req.drawing_unit or req.unit  # the drawing's unit (µin on inch drawings)
+        unit = f" {shown}" if shown else ""
         rule = "16 %" if req.rule == "16%" else "max"
         if req.uncertainty is not None:
-            rule += f", {req.decision_rule}, U {_num(req.uncertainty)}{unit}"
+            u = req.uncertainty if not req.drawing_limits else req.drawing_limits["uncertainty"]
+            rule += f", {req.decision_rule}, U {_num(u)}{unit}"
         verdict = Text(req.verdict.upper(), style=_STYLE[req.verdict])
         values = _values_text(req) + (unit if any(v.value is not None for v in req.values) else "")
         table.add_row(str(i), req.text, values, rule, verdict)

@@ -49,6 +49,12 @@ DEMO_CASES: tuple[DemoCase, ...] = (
         "same shafts on an ASME Y14.36 drawing: every value is a maximum",
     ),
     DemoCase(
+        "kfp-2041-asme-uin.yaml",
+        _ARDENT,
+        "conforming",
+        "the same shafts on an inch drawing: limits in microinches",
+    ),
+    DemoCase(
         "kfp-2041-iso21920.yaml",
         _ARDENT,
         "undecided",

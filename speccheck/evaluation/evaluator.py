@@ -271,13 +271,20 @@ def _where_text(req: Requirement) -> str:
 
 
 def _limits_text(req: Requirement) -> str:
-    u = _unit_text(req.unit)
+    from speccheck.units import to_drawing_unit
+
+    du = req.drawing_unit if req.drawing_unit == "µin" else ""
+    u = _unit_text(du or req.unit)
+
+    def f(v: float) -> str:  # in the drawing's unit (µin on inch drawings)
+        return f"{to_drawing_unit(v, du):.6g}" if du else _fmt(v)
+
     if req.upper is not None and req.lower is not None:
-        return f"limits {_fmt(req.lower)}{u} to {_fmt(req.upper)}{u}"
+        return f"limits {f(req.lower)}{u} to {f(req.upper)}{u}"
     if req.upper is not None:
-        return f"upper limit {_fmt(req.upper)}{u}"
+        return f"upper limit {f(req.upper)}{u}"
     assert req.lower is not None
-    return f"lower limit {_fmt(req.lower)}{u}"
+    return f"lower limit {f(req.lower)}{u}"
 
 
 def _further_text(n: int, per_section: bool, sections: int) -> str:
@@ -460,7 +467,29 @@ def _requirement_result(
         # _attach_diagnostics below; this list stays empty until then.
         diagnostics=[],
         sampling=spec.sampling,
+        **_in_drawing_unit(req, records),
     )
+
+
+def _in_drawing_unit(req: Requirement, records: list[ValueRecord]) -> dict[str, Any]:
+    """Values and limits in the drawing's unit (µin) beside the µm ones, when it differs."""
+    from speccheck.units import to_drawing_unit
+
+    du = req.drawing_unit
+    if not du or du == req.unit:
+        return {}
+
+    def conv(v: float | None) -> float | None:
+        return None if v is None else to_drawing_unit(v, du)
+
+    for r in records:
+        r.drawing_value = conv(r.value)
+    limits = {
+        "upper": conv(req.upper),
+        "lower": conv(req.lower),
+        "uncertainty": conv(req.uncertainty),
+    }
+    return {"drawing_unit": du, "drawing_limits": limits}
 
 
 def _mark_after_decision(records: list[ValueRecord], decided_at: int | None) -> list[ValueRecord]:

@@ -42,6 +42,8 @@ class ValueRecord:
     note: str | None = None
     # measured after the step procedure had decided (ISO 4288 5.2): shown, not counted
     after_decision: bool = False
+    # the value in the drawing's unit when that differs from `unit` (µin on inch drawings)
+    drawing_value: float | None = None
 
 
 @dataclass
@@ -65,6 +67,9 @@ class RequirementResult:
     diagnostics: list[dict[str, Any]] = field(default_factory=list)
     # 16 % rule: "sequential" (step procedure, decided at the first decisive step) or "fixed"
     sampling: Literal["sequential", "fixed"] = "sequential"
+    # the drawing's unit when it differs from `unit` ("µin"), else None; limits in that unit
+    drawing_unit: str | None = None
+    drawing_limits: dict[str, float | None] | None = None  # upper, lower, uncertainty
 
 
 @dataclass

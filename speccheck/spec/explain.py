@@ -49,12 +49,20 @@ def _num(value: float, unit: str) -> str:
 
 def _limit_words(req: Requirement) -> str:
     p, u = req.parameter, req.unit
+
+    def num(value: float) -> str:
+        if req.drawing_unit == "µin":  # the drawing's unit first, µm beside it
+            from speccheck.units import to_drawing_unit
+
+            return f"{to_drawing_unit(value, 'µin'):.6g} µin ({_num(value, u)})"
+        return _num(value, u)
+
     if req.upper is not None and req.lower is not None:
-        return f"{_num(req.lower, u)} ≤ {p} ≤ {_num(req.upper, u)} (lower and upper limit)"
+        return f"{num(req.lower)} ≤ {p} ≤ {num(req.upper)} (lower and upper limit)"
     if req.upper is not None:
-        return f"{p} ≤ {_num(req.upper, u)} (upper limit)"
+        return f"{p} ≤ {num(req.upper)} (upper limit)"
     assert req.lower is not None
-    return f"{p} ≥ {_num(req.lower, u)} (lower limit)"
+    return f"{p} ≥ {num(req.lower)} (lower limit)"
 
 
 def _form_words(form: str) -> str:

@@ -68,6 +68,31 @@ def _req_position(req: Requirement) -> tuple[int | None, int | None]:
     return _position(req.location)
 
 
+# Ra values common on inch drawings, in µin (common practice, no source).
+_UIN_SERIES = (16.0, 32.0, 63.0, 125.0, 250.0, 500.0)
+
+
+def _unit_doubt(req: Requirement) -> str | None:
+    """A warning when an Ra/Rq limit looks written in the other drawing unit."""
+    from speccheck.units import to_drawing_unit
+
+    if req.parameter not in ("Ra", "Rq") or req.upper is None:
+        return None
+    shown = to_drawing_unit(req.upper, req.drawing_unit)
+    if req.drawing_unit == "µm" and any(abs(shown - v) < 1e-9 for v in _UIN_SERIES):
+        return (
+            f"{req.parameter} {shown:g} µm is coarser than most machined surfaces and "
+            f"{shown:g} is a common microinch value: if the drawing is in inches, set "
+            "'units: uin'"
+        )
+    if req.drawing_unit == "µin" and shown < 1.0:
+        return (
+            f"{req.parameter} {shown:g} µin ({req.upper:g} µm) is finer than almost any "
+            "machined surface: if the drawing is metric, set 'units: um'"
+        )
+    return None
+
+
 def lint_file(path: str | Path) -> list[Finding]:
     """All errors and warnings of one specification file, in file order (errors first per place).
 
@@ -131,6 +156,10 @@ def lint_file(path: str | Path) -> list[Finding]:
                     f"Table 1 pair (λs {expected:g} µm); results differ from a standard "
                     "measurement",
                 )
+        unit_doubt = _unit_doubt(req)
+        if unit_doubt:
+            r_line, r_col = _req_position(req)
+            add(r_line, r_col, "warning", unit_doubt)
         try:  # the conditions check evaluates under: refused here exactly as there
             req.conditions()
         except SpeccheckError as exc:

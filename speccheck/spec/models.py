@@ -86,6 +86,9 @@ class RequirementFields(_Strict):
     rule: Literal["16%", "max"] | None = None
     cutoff: ValueText | None = Field(default=None, description="λc with unit, e.g. '0.8mm'.")
     ls: ValueText | None = Field(default=None, description="λs with unit, or 'none'.")
+    units: Literal["um", "uin"] | None = Field(
+        default=None, description="Overrides the spec's units for this requirement."
+    )
     lf: ValueText | None = Field(
         default=None, description="λf with unit (W parameters only; never assumed), e.g. '8mm'."
     )
@@ -129,6 +132,11 @@ class SpecFile(_Strict):
     requirements: list[RequirementItem] = Field(min_length=1)
     measurement: Measurement = Field(default_factory=lambda: Measurement())
     convention: Literal["iso1302", "iso21920", "asme"] = "iso1302"
+    units: Literal["um", "uin"] | None = Field(
+        default=None,
+        description="Unit of the bare limit numbers in callouts: 'um' (µm) or 'uin' (µin, "
+        "1 µin = 0.0254 µm exactly); required under convention asme.",
+    )
     decision_rule: Literal["simple", "guarded-acceptance", "guarded-rejection"] = "simple"
     uncertainty: dict[str, ValueText] = Field(
         default_factory=dict,

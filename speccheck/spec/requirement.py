@@ -55,6 +55,9 @@ class Requirement:
     # Long-wave cut-off λf of a waviness (W) requirement, with its source; None for R and P.
     lambda_f_mm: float | None = None
     lambda_f_source: str = ""
+    # The unit the drawing states heights in ("µm" or "µin"); limits above are always in
+    # `unit`. Only µm parameters are shown in µin; others keep their own unit.
+    drawing_unit: str = ""
 
     def conditions(self) -> Conditions:
         """The measurement conditions this requirement is evaluated under (one place for all).

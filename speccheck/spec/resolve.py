@@ -28,7 +28,7 @@ from speccheck.spec._yaml import Document, KeyPath, where
 from speccheck.spec.callout import Callout, CalloutError, parse_callout
 from speccheck.spec.models import RequirementFields, SpecFile
 from speccheck.spec.requirement import Requirement
-from speccheck.units import parse_length
+from speccheck.units import DRAWING_UNITS, UM_PER_UIN, parse_length
 
 __all__ = ["resolve_requirements", "parse_limit", "standard_cutoffs_mm", "iso3274_lambda_s_um"]
 
@@ -214,6 +214,14 @@ class _Resolver:
 
     def resolve(self) -> list[Requirement]:
         defaults = self.measurement_defaults()
+        if self.spec.convention == "asme" and self.spec.units is None:
+            self.errors.append(
+                self.err(
+                    ("convention",),
+                    "convention asme: state the drawing's unit, 'units: uin' (microinches, "
+                    "usual on inch drawings) or 'units: um'",
+                )
+            )
         names: set[str] = set()
         resolved: list[Requirement] = []
         pending: list[tuple[int, dict[str, Any]]] = []
@@ -340,6 +348,10 @@ class _Resolver:
             }
         name, unit = parsed.name, parsed.info.unit
         lf_fields = self.waviness_band(kp, parsed, band_lf, isinstance(item, str))
+        drawing_unit = self.drawing_unit(item, unit)
+        if isinstance(item, str) and drawing_unit == "µin":  # bare numbers are microinches
+            upper = None if upper is None else upper * UM_PER_UIN
+            lower = None if lower is None else lower * UM_PER_UIN
 
         # limits: sign, percentage range, order
         for side, limit in (("upper", upper), ("lower", lower)):
@@ -489,7 +501,15 @@ class _Resolver:
             "form_source": form_source,
             "definitions": "iso21920-2" if conv == "iso21920" else "iso4287",
             **lf_fields,
+            "drawing_unit": drawing_unit,
         }
+
+    def drawing_unit(self, item: str | RequirementFields, unit: str) -> str:
+        """The unit the drawing writes this requirement's heights in (µm parameters only)."""
+        if unit != "µm":
+            return unit
+        written = item.units if not isinstance(item, str) else None
+        return DRAWING_UNITS[written or self.spec.units or "um"]
 
     def waviness_band(
         self, kp: KeyPath, parsed: ParsedName, lf_mm: float | None, callout: bool
