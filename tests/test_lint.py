@@ -162,6 +162,4 @@ def test_several_files_exit_2_if_any_fails(tmp_path, capsys):
 def test_unreadable_file(tmp_path, capsys):
     missing = tmp_path / "missing.yaml"
     assert main(["lint", str(missing)]) == 2
-    assert capsys.readouterr().out.splitlines() == [
-        f"{missing}: file not found"
-    ]
+    assert capsys.readouterr().out.splitlines() == [f"{missing}: file not found"]
