@@ -78,7 +78,7 @@ def test_audit_intact_then_tampered(run_cli, db: Path):
     with RecordsStore.open(db, create=False) as store:
         head = store.head_hash()
     status, out, _ = run_cli("records", "audit", "--db", db)
-    assert (status, out) == (0, f"3 records, chain intact; head {head}\n")
+    assert (status, out) == (0, f"3 records, chain intact; head {head}\nintegrity check: ok\n")
     conn = sqlite3.connect(db, isolation_level=None)
     conn.execute("DROP TRIGGER records_no_update")
     conn.execute("UPDATE records SET verdict = 'nonconforming' WHERE id = 2")
@@ -86,8 +86,11 @@ def test_audit_intact_then_tampered(run_cli, db: Path):
     status, out, _ = run_cli("records", "audit", "--db", db)
     assert status == 1
     assert out.splitlines() == [
+        "TAMPERED: append-only triggers missing: records_no_update (records could have been "
+        "changed in place; the chain shows whether)",
         "TAMPERED: record 2 does not match its record_hash (edited)",
         f"3 records, chain NOT intact; head {head}",
+        "integrity check: ok",
     ]
 
 
@@ -100,9 +103,10 @@ def test_audit_deleted_row(run_cli, db: Path):
     assert status == 1
     doc = json.loads(out)
     assert doc["intact"] is False
-    assert doc["findings"] == [
+    assert doc["findings"][1:] == [
         {"record": 3, "kind": "deleted", "message": "record 2 missing before record 3 (deleted)"}
     ]
+    assert doc["findings"][0]["kind"] == "guards" and doc["integrity"] == "ok"
 
 
 def test_audit_not_a_store(run_cli, tmp_path: Path):

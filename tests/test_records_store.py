@@ -137,8 +137,8 @@ def test_audit_detects_edited_row(tmp_path: Path):
     with RecordsStore.open(db) as store:
         res = store.audit()
     assert not res.intact
-    assert [(f.record_id, f.kind) for f in res.findings] == [(4, "edited")]
-    assert res.findings[0].message == "record 4 does not match its record_hash (edited)"
+    assert [(f.record_id, f.kind) for f in res.findings] == [(0, "guards"), (4, "edited")]
+    assert res.findings[1].message == "record 4 does not match its record_hash (edited)"
 
 
 def test_audit_detects_edit_with_rehash(tmp_path: Path):
@@ -155,8 +155,8 @@ def test_audit_detects_edit_with_rehash(tmp_path: Path):
     conn.close()
     with RecordsStore.open(db) as store:
         res = store.audit()
-    assert [(f.record_id, f.kind) for f in res.findings] == [(3, "chain")]
-    assert "record 3 was altered or replaced" in res.findings[0].message
+    assert [(f.record_id, f.kind) for f in res.findings] == [(0, "guards"), (3, "chain")]
+    assert "record 3 was altered or replaced" in res.findings[1].message
 
 
 def test_audit_detects_deleted_row(tmp_path: Path):
@@ -167,8 +167,8 @@ def test_audit_detects_deleted_row(tmp_path: Path):
     with RecordsStore.open(db) as store:
         res = store.audit()
     assert not res.intact
-    assert [(f.record_id, f.kind) for f in res.findings] == [(4, "deleted")]
-    assert res.findings[0].message == "record 3 missing before record 4 (deleted)"
+    assert [(f.record_id, f.kind) for f in res.findings] == [(0, "guards"), (4, "deleted")]
+    assert res.findings[1].message == "record 3 missing before record 4 (deleted)"
 
 
 def _writer(db: str, worker: int, count: int) -> None:
@@ -264,3 +264,49 @@ def test_default_db_path(monkeypatch):
     monkeypatch.setenv("SPECCHECK_DB", "/x/y.sqlite")
     assert default_db_path() == Path("/x/y.sqlite")
     assert default_db_path("z.sqlite") == Path("z.sqlite")
+
+
+def test_audit_reports_missing_triggers_by_name(tmp_path: Path):
+    db = _store_with(tmp_path, 2)
+    _drop_triggers(db).close()
+    with RecordsStore.open(db) as store:
+        res = store.audit()
+    assert res.chain_intact and not res.intact and res.integrity == "ok"
+    assert res.findings[0].message.startswith(
+        "append-only triggers missing: records_no_update, records_no_delete"
+    )
+
+
+def test_audit_names_a_corrupt_row(tmp_path: Path):
+    """A row whose result is not JSON (a torn write or a hand edit): a finding, no traceback."""
+    db = _store_with(tmp_path, 3)
+    conn = _drop_triggers(db)
+    conn.execute('UPDATE records SET result_json = \'{"verdict": "conf\' WHERE id = 2')
+    conn.execute("UPDATE records SET signer = x'00ff' WHERE id = 3")
+    conn.close()
+    with RecordsStore.open(db) as store:
+        res = store.audit()
+    assert [(f.record_id, f.kind) for f in res.findings][1:] == [(2, "corrupt"), (3, "corrupt")]
+    assert res.findings[1].message == "record 2 is corrupt: its result is not valid JSON"
+    assert res.findings[2].message == "record 3 is corrupt: signer is not text"
+    assert not res.chain_intact
+
+
+def test_audit_runs_sqlite_integrity_check(tmp_path: Path):
+    """Damage inside the file: PRAGMA integrity_check (SQLite documentation, 'PRAGMA
+    integrity_check') reports it, and audit shows it as a finding."""
+    db = _store_with(tmp_path, 40)
+    conn = sqlite3.connect(db, isolation_level=None)
+    conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    root = conn.execute("SELECT rootpage FROM sqlite_master WHERE name = 'records_part'")
+    page = root.fetchone()[0]
+    size = conn.execute("PRAGMA page_size").fetchone()[0]
+    conn.close()
+    data = bytearray(db.read_bytes())
+    start = (page - 1) * size
+    data[start + 8 : start + size] = bytes(size - 8)  # the part index page: cells zeroed
+    db.write_bytes(bytes(data))
+    with RecordsStore.open(db) as store:
+        res = store.audit()
+    assert res.integrity != "ok" and not res.intact
+    assert any(f.kind == "integrity" for f in res.findings)

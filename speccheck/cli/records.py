@@ -138,6 +138,7 @@ def audit(db: str | None, archive: str | None, as_json: bool) -> int:
             extra = f", {res.reevaluated} result(s) re-evaluated"
             extra += f", {res.verdicts_differ} verdict(s) differ"
         click.echo(f"{res.records} records, chain {state}{extra}; head {res.head_hash}")
+        click.echo(f"integrity check: {res.integrity}")
     return 0 if res.intact else 1
 
 

@@ -9,7 +9,7 @@ Same table, same canonical content, same hash chain as the SQLite store
 - **Append-only**, twice over: triggers refuse ``UPDATE``, ``DELETE`` and ``TRUNCATE`` on both
   tables for everyone, the owner included; and benches connect as a role that was granted only
   ``SELECT`` and ``INSERT`` (:meth:`PostgresStore.grant_writer`, ``records writer-role``).
-- **Audit** adds a check that the triggers are still there.
+- **Audit** checks, as for SQLite, that the triggers are still there.
 
 psycopg 3 is imported only here, and only when a ``postgresql://`` store is opened.
 """
@@ -27,8 +27,6 @@ from speccheck.records.store import (
     _SCHEMA,
     STORE_FORMAT,
     STORE_VERSION,
-    AuditFinding,
-    AuditResult,
     Record,
     RecordsStore,
     _chained_row,
@@ -227,22 +225,10 @@ class PostgresStore(RecordsStore):
         present = {r[0] for r in rows}
         return [name for name, *_ in GUARD_TRIGGERS if name not in present]
 
-    def audit(self, archive_dir: Any = None) -> AuditResult:
-        """The chain audit of the SQLite store, plus: are the append-only triggers in place?"""
-        out = super().audit(archive_dir)
-        missing = self.missing_guards()
-        if missing:
-            out.findings.insert(
-                0,
-                AuditFinding(
-                    0,
-                    "guards",
-                    "append-only triggers missing: "
-                    + ", ".join(missing)
-                    + " (records could have been changed in place; the chain shows whether)",
-                ),
-            )
-        return out
+    def integrity_problems(self) -> list[str] | None:
+        """None: PostgreSQL has no whole-database check like SQLite's; it keeps page checksums
+        (when the cluster was made with them) and reports a damaged page when it reads one."""
+        return None
 
     def grant_writer(self, role: str) -> None:
         """Let ``role`` read and append, nothing else (creates a LOGIN role if missing)."""

@@ -84,6 +84,14 @@ _SCHEMA: tuple[str, ...] = (
     + _APPEND_ONLY.format(op="DELETE"),
 )
 
+#: The append-only triggers of the SQLite store; audit reports any that are gone.
+SQLITE_GUARDS: tuple[str, ...] = (
+    "records_no_update",
+    "records_no_delete",
+    "meta_no_update",
+    "meta_no_delete",
+)
+
 _COLUMNS = (
     "id",
     "time",
@@ -193,11 +201,14 @@ class AuditResult:
     head_hash: str
     findings: list[AuditFinding] = field(default_factory=list)
     reevaluated: int = 0
+    integrity: str = "not run"  # the database engine's own check: "ok", or what it found
 
     @property
     def chain_intact(self) -> bool:
         """No record edited, deleted or out of chain."""
-        return not any(f.kind in ("edited", "deleted", "chain") for f in self.findings)
+        return not any(
+            f.kind in ("edited", "deleted", "chain", "corrupt", "anchor") for f in self.findings
+        )
 
     @property
     def verdicts_differ(self) -> int:
@@ -216,6 +227,7 @@ class AuditResult:
             "intact": self.intact,
             "chain_intact": self.chain_intact,
             "reevaluated": self.reevaluated,
+            "integrity": self.integrity,
             "findings": [
                 {"record": f.record_id, "kind": f.kind, "message": f.message} for f in self.findings
             ],
@@ -627,6 +639,13 @@ class RecordsStore:
                         r.id, "deleted", f"{missing} missing before record {r.id} (deleted)"
                     )
                 )
+            corrupt = _corruption(r)
+            if corrupt:
+                out.findings.append(
+                    AuditFinding(r.id, "corrupt", f"record {r.id} is corrupt: {corrupt}")
+                )
+                expected_id, prev_hash = _next_id(r.id, expected_id), str(r.record_hash)
+                continue
             computed = record_hash(r.prev_hash, r.content())
             if computed != r.record_hash:
                 out.findings.append(
@@ -644,9 +663,72 @@ class RecordsStore:
                     )
                 )
             expected_id, prev_hash = r.id + 1, r.record_hash
+        self._check_guards(out)
         if archive_dir is not None:
-            _reevaluate(rows, Path(archive_dir), out)
+            _reevaluate([r for r in rows if not _corruption(r)], Path(archive_dir), out)
         return out
+
+    def _check_guards(self, out: AuditResult) -> None:
+        """The engine's integrity check and the append-only triggers, as findings on record 0."""
+        problems = self.integrity_problems()
+        if problems is None:
+            out.integrity = "not available for this kind of store"
+        else:
+            out.integrity = "ok" if not problems else "; ".join(problems)
+        if problems:
+            out.findings.insert(
+                0, AuditFinding(0, "integrity", "integrity check failed: " + out.integrity)
+            )
+        missing = self.missing_guards()
+        if missing:
+            out.findings.insert(
+                0,
+                AuditFinding(
+                    0,
+                    "guards",
+                    "append-only triggers missing: "
+                    + ", ".join(missing)
+                    + " (records could have been changed in place; the chain shows whether)",
+                ),
+            )
+
+    def missing_guards(self) -> list[str]:
+        """Names of append-only triggers that are not (or no longer) in the database."""
+        rows = self._conn.execute("SELECT name FROM sqlite_master WHERE type = 'trigger'")
+        present = {r[0] for r in rows}
+        return [name for name in SQLITE_GUARDS if name not in present]
+
+    def integrity_problems(self) -> list[str] | None:
+        """What SQLite's ``PRAGMA integrity_check`` reports (empty when it says ok)."""
+        try:
+            rows = [str(r[0]) for r in self._conn.execute("PRAGMA integrity_check(20)")]
+        except sqlite3.DatabaseError as exc:
+            return [f"cannot run ({exc})"]
+        return [] if rows == ["ok"] else rows
+
+
+def _next_id(record_id: Any, expected: int) -> int:
+    return record_id + 1 if isinstance(record_id, int) else expected + 1
+
+
+def _corruption(r: Record) -> str | None:
+    """Why a row cannot be a record as written (wrong types, unreadable JSON), or None."""
+    text_fields = ("time", "kind", "verdict", "result_json", "prev_hash", "record_hash")
+    if not isinstance(r.id, int):
+        return f"id is {r.id!r}, not a number"
+    for name in text_fields:
+        if not isinstance(getattr(r, name), str):
+            return f"{name} is not text"
+    for name in ("part", "spec_sha256", "report_sha256", "signer"):
+        if getattr(r, name) is not None and not isinstance(getattr(r, name), str):
+            return f"{name} is not text"
+    try:
+        result = json.loads(r.result_json)
+    except ValueError:
+        return "its result is not valid JSON"
+    if not isinstance(result, dict):
+        return "its result is not a JSON object"
+    return None
 
 
 def _sha256_file(path: Path) -> str:
