@@ -81,7 +81,21 @@ MALFORMED = [
     ("", "empty callout", 1),
     ("Rx 0.8", "unknown parameter 'Rx'", 1),
     ("Ra", "expected the limit of Ra (a number), found the end", 3),
-    ("Ra 0,8", "use '.' as the decimal separator in the limit of Ra", 5),
+    ("Ra 0,8", "use '.' as the decimal separator in the limit of Ra (did you mean '0.8'?)", 5),
+    (
+        "Ra0.8",
+        "did you mean 'Ra 0.8'? a space separates the parameter from its limit "
+        "('Ra3 ...' would mean 3 sections)",
+        3,
+    ),
+    (
+        "Rz3.2",
+        "did you mean 'Rz 3.2'? a space separates the parameter from its limit "
+        "('Rz3 ...' would mean 3 sections)",
+        3,
+    ),
+    ("Rz max6.3", "did you mean 'Rz max 6.3'? a space separates 'max' from the limit", 7),
+    ("ra 0.8", "unknown parameter 'ra' (did you mean 'Ra'?)", 1),
     ("Rz maxx 6.3", "expected the limit of Rz (a number), found 'maxx'", 4),
     ("Ra 0.8 um", "unexpected 'um' after the limit (the limit is in µm; write the number only)", 8),
     ("Ra -0.8", "the limit of Ra must not be negative", 4),

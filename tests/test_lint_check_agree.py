@@ -100,3 +100,35 @@ def test_generated_specs_lint_exit_2_iff_check_exit_2(
     spec.write_text("\n".join(lines) + "\n", encoding="utf-8")
     lint, check = statuses(spec, profile, capsys)
     assert (lint == 2) == (check == 2), spec.read_text(encoding="utf-8")
+
+
+HEAD = "spec_version: 1\npart: {number: KFP-2041, revision: D, surface: seal seat}\n"
+
+
+def test_contradictory_requirements_are_refused_by_both(tmp_path, profile, capsys):
+    """Ra ≤ 0.8 µm and Ra ≥ 1.0 µm under the same conditions (both λc 0.8 mm, ISO 4288
+    Table 1): no surface meets both."""
+    spec = tmp_path / "c.yaml"
+    spec.write_text(HEAD + 'requirements:\n  - "Ra 0.8"\n  - "L Ra 1.0"\n', encoding="utf-8")
+    message = (
+        f"{spec}:5:5: L Ra 1.0 contradicts requirement 1 (Ra 0.8): no Ra can be ≥ 1 µm and ≤ 0.8 µm"
+    )
+    assert main(["lint", str(spec)]) == 2
+    assert capsys.readouterr().out.splitlines() == [message]
+    assert main(["check", str(spec), profile]) == 2
+    assert capsys.readouterr().err == f"speccheck: error: {message}\n"
+
+
+def test_duplicated_requirement_is_a_warning(tmp_path, capsys):
+    spec = tmp_path / "d.yaml"
+    spec.write_text(
+        HEAD + 'requirements:\n  - "Ra 0.8"\n  - "Rz max 6.3"\n  - "Ra 0.8"\n  - "Rz 4"\n',
+        encoding="utf-8",
+    )
+    assert main(["lint", str(spec)]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out == [
+        f"{spec}:6:5: warning: Ra 0.8 limits the upper side of Ra again (requirement 1: Ra 0.8) "
+        "under the same conditions; the stricter limit governs: state it once",
+        f"{spec}: ok, 1 warning",
+    ]  # Rz max 6.3 and Rz 4 (16 % rule) are different rules: both may stand

@@ -294,6 +294,17 @@ def _further_text(n: int, per_section: bool, sections: int) -> str:
     return f"{n} more profile{'s' if n != 1 else ''}"
 
 
+def _reference_line(req: Requirement, cond: Conditions) -> str:
+    """The mean line the value is measured from, in words (names.reference_line)."""
+    from speccheck.parameters.names import parse_parameter_name, reference_line
+
+    parsed = parse_parameter_name(req.parameter)
+    assert parsed is not None
+    if cond.profile == "P":
+        return "least-squares line of the evaluated portion (ISO 4287)"
+    return reference_line(parsed.base, cond.filter)
+
+
 def _basis(req: Requirement, cond: Conditions) -> str:
     """ "field" or "section": how the requirement's parameter is computed (names.basis)."""
     from speccheck.parameters.names import basis, parse_parameter_name
@@ -439,6 +450,7 @@ def _requirement_result(
         "required_trace_mm": cond.required_trace_mm,
         "max_spacing_um": max_spacing_for_um(cond.lambda_c_mm),
         "filter": cond.filter,
+        "reference_line": _reference_line(req, cond),
         "form": cond.form,
         "profile": cond.profile,
         "definitions": cond.definitions,

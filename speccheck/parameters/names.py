@@ -23,6 +23,8 @@ __all__ = [
     "FIELD_UNDER_ISO21920",
     "basis",
     "basis_words",
+    "STRATIFIED",
+    "reference_line",
 ]
 
 Scope = Literal["section", "evaluation"]  # averaged over sections, or over the evaluation length
@@ -110,6 +112,23 @@ def basis_words(base: str, definitions: str, sections: int) -> str:
     if basis(base, definitions) == "field":
         return f"field value over the whole evaluation length ({edition})"
     return f"mean of {sections} section value{'s' if sections != 1 else ''} ({edition})"
+
+
+#: Bases computed on the ISO 13565-1 (or ISO 16610-31) roughness profile, not the plain R.
+STRATIFIED = frozenset({"k", "pk", "vk", "mr1", "mr2", "A1", "A2", "pq", "vq", "mq"})
+
+
+def reference_line(base: str, filter: str) -> str:
+    """The mean line a parameter is actually measured from, in words (as compute applies it)."""
+    if filter in ("robust", "robust-order0"):
+        order = 0 if filter == "robust-order0" else 2
+        return f"robust Gaussian regression filter, order {order} (ISO 16610-31)"
+    if base in STRATIFIED or filter == "iso13565-1":
+        return (
+            "ISO 13565-1 valley-suppressed reference line (Gaussian mean line, valleys below "
+            "it cut off, filtered again)"
+        )
+    return "Gaussian filter (ISO 16610-21)"
 
 
 # Spelling on drawings and in output for the ISO 13565-2 material ratios (no profile letter).

@@ -223,7 +223,9 @@ def _conditions_text(c: Mapping[str, Any]) -> str:
         parts.append(f"{c['sections']} sections")
     if c.get("evaluation_length_mm") is not None:
         parts.append(f"evaluation length {plain_number(c['evaluation_length_mm'], 'mm')}")
-    if c.get("filter"):
+    if c.get("reference_line"):
+        parts.append(f"measured from the {c['reference_line']}")
+    elif c.get("filter"):
         parts.append(f"{c['filter']} filter")
     if c.get("basis"):
         edition = "ISO 21920-2" if c.get("definitions") == "iso21920-2" else "ISO 4287"

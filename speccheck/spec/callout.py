@@ -137,7 +137,10 @@ class _Scanner:
             self.pos = start
             return None
         if self.peek() == ",":
-            raise self.fail(f"use '.' as the decimal separator in {what}")
+            after = self.text[self.pos + 1 : self.end]
+            digits = after[: len(after) - len(after.lstrip("0123456789"))]
+            hint = f" (did you mean '{text}.{digits}'?)" if digits else ""
+            raise self.fail(f"use '.' as the decimal separator in {what}{hint}")
         return float(text)
 
 
@@ -211,14 +214,21 @@ def _parse_limit(s: _Scanner) -> _Limit:
     parsed = parse_parameter_name(word)
     if parsed is None and word.endswith("max") and parse_parameter_name(word[:-3]) is not None:
         parsed, rule, word = parse_parameter_name(word[:-3]), "max", word[:-3]
+    _near_miss_name(s, word, p_col)
     if parsed is None:
         head = word.rstrip("0123456789")
         if head != word and word[len(head) :].strip("0") == "" and parse_parameter_name(head):
             raise s.fail(f"the section count of '{word}' must be at least 1", p_col - 1 + len(head))
-        raise s.fail(f"unknown parameter '{word}'", p_col - 1)
+        raise s.fail(f"unknown parameter '{word}'{_did_you_mean_name(word)}", p_col - 1)
     s.skip_space()
     if rule is None:
         if s.text.startswith("max", s.pos) and not s.text[s.pos + 3 : s.pos + 4].isalpha():
+            if s.text[s.pos + 3 : s.pos + 4].isdigit():
+                rest = s.text[s.pos + 3 : s.end].split()[0]
+                raise s.fail(
+                    f"did you mean '{word} max {rest}'? a space separates 'max' from the limit",
+                    s.pos + 3,
+                )
             rule = "max"
             s.pos += 3
         elif s.text.startswith("16%", s.pos):
@@ -249,6 +259,30 @@ def _parse_limit(s: _Scanner) -> _Limit:
     return _Limit(
         side, side_col, parsed, word, p_col, rule, value, filter_, lambda_s_mm, lambda_c_mm, column
     )
+
+
+def _near_miss_name(s: _Scanner, word: str, p_col: int) -> None:
+    """Refuse 'Ra0.8' and 'Rz3.2' (limit run into the name) with the reading meant."""
+    if s.peek() != ".":
+        return
+    head = word.rstrip("0123456789")
+    digits = word[len(head) :]
+    if not digits or parse_parameter_name(head) is None:
+        return
+    rest = s.text[s.pos : s.end].split()[0] if s.text[s.pos : s.end].strip() else ""
+    raise s.fail(
+        f"did you mean '{head} {digits}{rest}'? a space separates the parameter from its "
+        f"limit ('{head}3 ...' would mean 3 sections)",
+        p_col - 1 + len(head),
+    )
+
+
+def _did_you_mean_name(word: str) -> str:
+    """' (did you mean 'Ra'?)' for a name that differs only in letter case, else ''."""
+    for candidate in (word[:1].upper() + word[1:], word[:1].upper() + word[1:].lower()):
+        if candidate != word and parse_parameter_name(candidate) is not None:
+            return f" (did you mean '{candidate}'?)"
+    return ""
 
 
 def parse_callout(text: str) -> Callout:

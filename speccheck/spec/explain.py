@@ -124,6 +124,15 @@ def trace_lengths_note(requirements: tuple[Requirement, ...] | list[Requirement]
     )
 
 
+def _filter_words(req: Requirement) -> str:
+    from speccheck.parameters.names import parse_parameter_name, reference_line
+
+    parsed = parse_parameter_name(req.parameter)
+    if parsed is None:
+        return _FILTER_WORDS[req.filter]
+    return reference_line(parsed.base, req.filter)
+
+
 def _waviness_band(req: Requirement) -> list[tuple[str, str]]:
     if req.lambda_f_mm is None:
         return []
@@ -164,7 +173,7 @@ def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
         ("trace", _trace_words(req)),
         ("short-wave", ls),
         *_waviness_band(req),
-        ("filter", f"{_FILTER_WORDS[req.filter]} — {req.filter_source}"),
+        ("filter", f"{_filter_words(req)} — {req.filter_source}"),
         ("form", f"{_form_words(req.form)} removed first — {req.form_source}"),
         ("decision", f"{_DECISION_WORDS[req.decision_rule]}; {u}"),
     ]

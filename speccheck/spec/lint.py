@@ -23,7 +23,11 @@ from speccheck.spec._yaml import Document, KeyPath
 from speccheck.spec.explain import trace_lengths_note
 from speccheck.spec.loader import check_spec
 from speccheck.spec.requirement import Requirement
-from speccheck.spec.resolve import iso3274_lambda_s_um, standard_cutoffs_mm
+from speccheck.spec.resolve import (
+    iso3274_lambda_s_um,
+    requirement_conflicts,
+    standard_cutoffs_mm,
+)
 
 __all__ = ["Finding", "lint_file", "lint_paths"]
 
@@ -187,6 +191,10 @@ def lint_file(path: str | Path) -> list[Finding]:
         at = next((r for r in sensitive if r.parameter in text), sensitive[0])
         a_line, a_col = _req_position(at)
         add(a_line, a_col, "warning", text)
+    for kind, req, message in requirement_conflicts(spec.requirements):
+        if kind == "duplicate":
+            d_line, d_col = _req_position(req)
+            add(d_line, d_col, "warning", message)
     note = trace_lengths_note(spec.requirements)
     if note and spec.requirements:
         t_line, t_col = _req_position(spec.requirements[0])

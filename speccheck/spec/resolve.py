@@ -30,7 +30,13 @@ from speccheck.spec.models import RequirementFields, SpecFile
 from speccheck.spec.requirement import Requirement
 from speccheck.units import DRAWING_UNITS, UM_PER_UIN, parse_length
 
-__all__ = ["resolve_requirements", "parse_limit", "standard_cutoffs_mm", "iso3274_lambda_s_um"]
+__all__ = [
+    "requirement_conflicts",
+    "resolve_requirements",
+    "parse_limit",
+    "standard_cutoffs_mm",
+    "iso3274_lambda_s_um",
+]
 
 _FILTER_NAMES = {
     "gaussian": "Gaussian filter (ISO 16610-21)",
@@ -590,6 +596,52 @@ def render_callout(
     return one("", upper)
 
 
+def _same_quantity(r: Requirement) -> tuple:
+    return (r.parameter, r.sections, r.lambda_c_mm, r.lambda_s_um, r.lambda_f_mm, r.filter, r.form)
+
+
+def requirement_conflicts(
+    reqs: list[Requirement] | tuple[Requirement, ...],
+) -> list[tuple[str, Requirement, str]]:
+    """Pairs of requirements on the same quantity (parameter and conditions) that clash.
+
+    Returns ``(kind, requirement, message)`` with kind ``"contradiction"`` (no value can meet
+    both: a lower limit at or above an upper limit) or ``"duplicate"`` (the same side limited
+    twice; the stricter limit governs), placed at the later requirement.
+    """
+    out: list[tuple[str, Requirement, str]] = []
+    for j, b in enumerate(reqs):
+        for i, a in enumerate(reqs[:j]):
+            if _same_quantity(a) != _same_quantity(b):
+                continue
+            u = a.unit
+            for lo_req, hi_req in ((a, b), (b, a)):
+                if lo_req.lower is not None and hi_req.upper is not None:
+                    if lo_req.lower >= hi_req.upper:
+                        out.append(
+                            (
+                                "contradiction",
+                                b,
+                                f"{b.text} contradicts requirement {i + 1} ({a.text}): no "
+                                f"{b.parameter} can be ≥ {_fmt(lo_req.lower, u)} and "
+                                f"≤ {_fmt(hi_req.upper, u)}",
+                            )
+                        )
+            for side in ("upper", "lower"):
+                both = getattr(a, side) is not None and getattr(b, side) is not None
+                if both and a.rule == b.rule:
+                    out.append(
+                        (
+                            "duplicate",
+                            b,
+                            f"{b.text} limits the {side} side of {b.parameter} again (requirement "
+                            f"{i + 1}: {a.text}) under the same conditions; the stricter limit "
+                            "governs: state it once",
+                        )
+                    )
+    return out
+
+
 def resolve_requirements(
     spec: SpecFile, doc: Document, path: str
 ) -> tuple[list[Requirement], list[SpecError]]:
@@ -611,4 +663,7 @@ def resolve_requirements(
     """
     r = _Resolver(spec, doc, path)
     reqs = r.resolve()
+    for kind, req, message in requirement_conflicts(reqs):
+        if kind == "contradiction":
+            r.errors.append(SpecError(message, path=path, where=req.location))
     return reqs, r.errors
