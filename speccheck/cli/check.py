@@ -186,8 +186,9 @@ def command(
     report_sha256 = signer = None
     if report_out:
         options = {"fmt": fmt, "dx": dx, "decimal": decimal}
+        head = _chain_head(db) if (record and sign_p12) else None
         info = _write_report(
-            result, loaded, profiles, report_out, sign_p12, passphrase_file, options
+            result, loaded, profiles, report_out, sign_p12, passphrase_file, options, head
         )
         report_sha256 = getattr(info, "sha256", None)
         signer = getattr(info, "signer", None)
@@ -203,7 +204,15 @@ def command(
     return int(EXIT[result.verdict])
 
 
-def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, options) -> Any:
+def _chain_head(db) -> Any:
+    """The store's head now: the signed record carries it, anchoring the chain outside."""
+    from speccheck.records.store import RecordsStore, default_db_path
+
+    with RecordsStore.open(default_db_path(db)) as store:
+        return store.chain_head()
+
+
+def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, options, head) -> Any:
     try:
         from speccheck.report import write_report  # type: ignore[attr-defined]
     except ImportError:
@@ -224,6 +233,7 @@ def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, opti
         sign_p12=Path(sign_p12) if sign_p12 else None,
         passphrase=passphrase,
         read_options=options,
+        chain_head=head,
     )
 
 

@@ -11,7 +11,7 @@ import json
 
 import click
 
-from speccheck.cli.options import OutputPath, db_option
+from speccheck.cli.options import InputPath, OutputPath, db_option
 
 __all__ = ["command"]
 
@@ -122,11 +122,50 @@ def export(db: str | None, csv_out: str | None, json_out: str | None) -> int:
     type=click.Path(file_okay=False),
     help="Folder of the original spec and profile files: re-evaluate and compare verdicts.",
 )
+@click.option(
+    "--checkpoint",
+    "checkpoints",
+    multiple=True,
+    type=InputPath("checkpoint --checkpoint"),
+    metavar="FILE",
+    help="A signed checkpoint (records checkpoint) to compare the chain with (repeatable).",
+)
+@click.option(
+    "--reports",
+    "reports_dir",
+    default=None,
+    type=click.Path(file_okay=False),
+    help="Folder of signed records written with --record: compare the chain with each.",
+)
+@click.option(
+    "--trust",
+    multiple=True,
+    type=InputPath("certificate --trust"),
+    metavar="CERT.pem",
+    help="Certificate the checkpoints and records must be signed with (repeatable).",
+)
 @click.option("--json", "as_json", is_flag=True, help="Print the audit as JSON.")
-def audit(db: str | None, archive: str | None, as_json: bool) -> int:
-    """Check the hash chain (and verdicts, with --archive). Exit 0 intact, 1 tampering found."""
+def audit(
+    db: str | None,
+    archive: str | None,
+    checkpoints: tuple[str, ...],
+    reports_dir: str | None,
+    trust: tuple[str, ...],
+    as_json: bool,
+) -> int:
+    """Check the hash chain, the append-only triggers and the database's integrity; with
+    --checkpoint or --reports also against anchors kept outside the database (a wholesale
+    rewrite); with --archive the verdicts. Exit 0 intact, 1 anything found. Calls
+    speccheck.records.store.RecordsStore.audit and speccheck.records.anchor.check_anchors.
+    """
+    from speccheck.records.anchor import check_anchors, load_anchors
+
+    anchors, bad = load_anchors(checkpoints, reports_dir, trust=trust)
     with _open(db) as store:
         res = store.audit(archive)
+        if checkpoints or reports_dir:
+            res.findings.extend(bad)
+            check_anchors(store.list(), anchors, res)
     if as_json:
         click.echo(json.dumps(res.to_dict(), indent=2, ensure_ascii=False))
     else:
@@ -137,9 +176,61 @@ def audit(db: str | None, archive: str | None, as_json: bool) -> int:
         if archive:
             extra = f", {res.reevaluated} result(s) re-evaluated"
             extra += f", {res.verdicts_differ} verdict(s) differ"
+        if checkpoints or reports_dir:
+            extra += f", compared with {res.anchors} anchor(s)"
         click.echo(f"{res.records} records, chain {state}{extra}; head {res.head_hash}")
         click.echo(f"integrity check: {res.integrity}")
     return 0 if res.intact else 1
+
+
+@command.command(name="checkpoint")
+@db_option
+@click.option(
+    "--sign",
+    "sign_p12",
+    required=True,
+    type=InputPath("signing key --sign"),
+    metavar="KEY.p12",
+    help="PKCS#12 key to sign the checkpoint with.",
+)
+@click.option(
+    "--passphrase-file",
+    default=None,
+    type=InputPath("passphrase file"),
+    help="File whose first line is the key's passphrase (else $SPECCHECK_PASSPHRASE).",
+)
+@click.option(
+    "--out",
+    "out",
+    required=True,
+    type=OutputPath("checkpoint"),
+    metavar="FILE.pdf",
+    help="The checkpoint to write (never overwrites an input).",
+)
+def checkpoint(db: str | None, sign_p12: str, passphrase_file: str | None, out: str) -> int:
+    """Write a signed statement of the store's head hash, record count and time; keep it
+    outside the database for records audit --checkpoint. Calls
+    speccheck.report.checkpoint.write_checkpoint.
+    """
+    from pathlib import Path
+
+    from speccheck.records.protocol import redacted_location
+    from speccheck.report.checkpoint import write_checkpoint
+    from speccheck.report.signing import read_passphrase
+
+    passphrase = read_passphrase(Path(passphrase_file) if passphrase_file else None)
+    with _open(db) as store:
+        hashes = [r.record_hash for r in store.list()]
+        location = redacted_location(store.location)
+    st = write_checkpoint(
+        Path(out),
+        store=location,
+        record_hashes=hashes,
+        sign_p12=Path(sign_p12),
+        passphrase=passphrase,
+    )
+    click.echo(f"Checkpoint written: {out} ({st['records']} records, head {st['head_hash']})")
+    return 0
 
 
 @command.command(name="trend")

@@ -216,6 +216,13 @@ class PostgresStore(RecordsStore):
         except psycopg.Error as exc:
             raise self._error("cannot read the records store", exc) from None
 
+    def chain_head(self) -> dict[str, Any]:
+        psycopg = _psycopg()
+        try:
+            return super().chain_head()
+        except psycopg.Error as exc:
+            raise self._error("cannot read the records store", exc) from None
+
     def missing_guards(self) -> list[str]:
         """Names of append-only triggers that are not (or no longer) on their tables."""
         rows = self._conn.execute(

@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING, Any, Protocol
 if TYPE_CHECKING:
     from speccheck.records.store import AuditResult, Record
 
-__all__ = ["Store", "is_postgres_url", "store_location"]
+__all__ = ["Store", "is_postgres_url", "store_location", "redacted_location"]
 
 _PG_SCHEMES = ("postgresql://", "postgres://")
 
@@ -35,6 +35,15 @@ def store_location(location: str | os.PathLike[str]) -> str | Path:
         text = text[len("sqlite:") :]
         text = text[2:] if text.startswith("//") else text
     return Path(text)
+
+
+def redacted_location(location: str) -> str:
+    """The store's location fit for a record or a checkpoint: a server URL without password."""
+    if is_postgres_url(location):
+        import re
+
+        return re.sub(r"(://[^/@:]*):[^/@]*@", r"\1:***@", location)
+    return str(location)
 
 
 class Store(Protocol):
@@ -69,5 +78,7 @@ class Store(Protocol):
     def get(self, record_id: int) -> Record: ...
 
     def head_hash(self) -> str: ...
+
+    def chain_head(self) -> dict[str, Any]: ...
 
     def audit(self, archive_dir: str | os.PathLike[str] | None = None) -> AuditResult: ...

@@ -202,6 +202,7 @@ class AuditResult:
     findings: list[AuditFinding] = field(default_factory=list)
     reevaluated: int = 0
     integrity: str = "not run"  # the database engine's own check: "ok", or what it found
+    anchors: int = 0  # checkpoints and signed records the chain was compared with
 
     @property
     def chain_intact(self) -> bool:
@@ -228,6 +229,7 @@ class AuditResult:
             "chain_intact": self.chain_intact,
             "reevaluated": self.reevaluated,
             "integrity": self.integrity,
+            "anchors": self.anchors,
             "findings": [
                 {"record": f.record_id, "kind": f.kind, "message": f.message} for f in self.findings
             ],
@@ -546,6 +548,15 @@ class RecordsStore:
         if not rows:
             raise RecordsError("no such record", path=str(self.path), where=f"record {record_id}")
         return rows[0]
+
+    def chain_head(self) -> dict[str, Any]:
+        """``{"records": n, "head_hash": h}``: how many records the store holds and the last
+        record's hash (64 zeros when it is empty); what a signed record or checkpoint carries."""
+        row = self._conn.execute(
+            "SELECT COUNT(*), (SELECT record_hash FROM records ORDER BY id DESC LIMIT 1) "
+            "FROM records"
+        ).fetchone()
+        return {"records": int(row[0]), "head_hash": str(row[1] or GENESIS_HASH)}
 
     def head_hash(self) -> str:
         """``record_hash`` of the last record (64 zeros when the store is empty)."""

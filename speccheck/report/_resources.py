@@ -1,4 +1,4 @@
-"""Find the report templates: installed package data first, the source tree's folder second."""
+"""Find the report templates: the source tree's folder when running from one, else package data."""
 
 from __future__ import annotations
 
@@ -21,11 +21,13 @@ def template_text(name: str) -> str:
     ReportError
         When neither place holds the file (a broken installation).
     """
+    candidate = _REPO_TEMPLATES / name
+    if candidate.is_file():  # a source tree: its own templates, beside the code that runs
+        return candidate.read_text(encoding="utf-8")
     try:
         return resources.files("speccheck.templates").joinpath(name).read_text(encoding="utf-8")
     except (ModuleNotFoundError, FileNotFoundError, NotADirectoryError, OSError):
         pass
-    candidate = _REPO_TEMPLATES / name
     try:
         return candidate.read_text(encoding="utf-8")
     except OSError as exc:

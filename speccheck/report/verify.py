@@ -30,7 +30,7 @@ from typing import Any
 from speccheck._version import __version__
 from speccheck.errors import ReportError
 from speccheck.report.pdf import read_embedded_files
-from speccheck.report.writer import MANIFEST_KIND, MANIFEST_NAME, RESULT_NAME
+from speccheck.report.writer import CHAIN_KEY, MANIFEST_KIND, MANIFEST_NAME, RESULT_NAME
 
 __all__ = [
     "RELATIVE_TOLERANCE",
@@ -156,6 +156,7 @@ def _normalised(result: dict[str, Any]) -> dict[str, Any]:
     d = json.loads(json.dumps(result))
     d.pop("created", None)
     d.pop("software", None)
+    d.pop(CHAIN_KEY, None)  # the store's state when written: not part of the evaluation
     if isinstance(d.get("spec"), dict):
         d["spec"].pop("path", None)
     for m in d.get("measurements") or []:

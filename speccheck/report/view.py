@@ -165,6 +165,7 @@ class SignatureView:
     fingerprint: str
     note: str  # demo-key warning or how to verify
     summary: str = ""  # one line for page 1: "name (org), role, date"
+    chain: str = ""  # the records store's head when this record was written, if recorded
 
     @property
     def css_class(self) -> str:

@@ -30,6 +30,7 @@ MANIFEST_NAME = "speccheck-manifest.json"
 RESULT_NAME = "speccheck-result.json"
 MANIFEST_KIND = "speccheck conformance record"
 MANIFEST_VERSION = 1
+CHAIN_KEY = "records_chain"  # the store's head when the record was written, in the result
 RK_FAMILY = ("Rk", "Rpk", "Rvk", "Mr1", "Mr2", "A1", "A2")
 DEMO_KEY_NOTE = (
     "Signed with a THROWAWAY DEMONSTRATION KEY: the signature proves nothing about who made "
@@ -268,6 +269,15 @@ def _plots(
     return plots, notes
 
 
+def _chain_line(chain_head: Mapping[str, Any] | None) -> str:
+    if chain_head is None:
+        return ""
+    return (
+        f"Records store before this record: {int(chain_head['records'])} records, "
+        f"head {chain_head['head_hash']}"
+    )
+
+
 def render_html(view: Any) -> str:
     """Fill the report template with a :class:`~speccheck.report.view.ReportView`."""
     from markupsafe import Markup
@@ -292,6 +302,7 @@ def write_report(
     demo_key: bool = False,
     read_options: Mapping[str, Any] | None = None,
     tsa_url: str | None = None,
+    chain_head: Mapping[str, Any] | None = None,
 ) -> ReportInfo:
     """Write the conformance record of ``result`` as a self-contained, optionally signed PDF.
 
@@ -319,6 +330,10 @@ def write_report(
         stored in the record so that a verifier reads the files the same way.
     tsa_url:
         A time-stamping authority (RFC 3161) whose token vouches for the signing time.
+    chain_head:
+        The records store's ``{"records", "head_hash"}`` when this record is about to be
+        appended to it: printed on the face and kept in the attached result, it anchors the
+        chain outside the database (``records audit --reports``).
 
     Returns
     -------
@@ -365,6 +380,7 @@ def write_report(
             summary=", ".join(
                 t for t in (who, signer_role, now.strftime("%Y-%m-%d %H:%M UTC")) if t
             ),
+            chain=_chain_line(chain_head),
         )
     else:
         sig_view = SignatureView(
@@ -403,6 +419,11 @@ def write_report(
     software.setdefault("name", "speccheck")
     software.setdefault("version", __version__)
     result_dict["software"] = software
+    if chain_head is not None:
+        result_dict[CHAIN_KEY] = {
+            "records": int(chain_head["records"]),
+            "head_hash": str(chain_head["head_hash"]),
+        }
     try:
         result_json = json.dumps(result_dict, indent=2, ensure_ascii=False, allow_nan=False)
     except ValueError as exc:
