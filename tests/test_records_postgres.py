@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import multiprocessing
 from pathlib import Path
+from typing import Any
 
 import pytest
 from test_records_store import make_result
@@ -244,3 +245,58 @@ def test_migrate_refuses_a_broken_source_chain(tmp_path: Path, pg_url: str, run_
     assert status == 2 and "source chain is not intact, not copied" in err
     with RecordsStore.open(pg_url) as pg:
         assert pg.list() == []
+
+
+def _rewrite_from(location: str, record_id: int) -> None:
+    """Change one verdict and recompute every later hash, on either backend (triggers dropped)."""
+    with RecordsStore.open(_loc(location), create=False) as store:
+        rows = store.list()
+    if location.startswith("sqlite:"):
+        import sqlite3
+
+        conn: Any = sqlite3.connect(str(_loc(location)), isolation_level=None)
+        conn.execute("DROP TRIGGER records_no_update")
+        mark = "?"
+    else:
+        import psycopg
+
+        conn = psycopg.connect(location, autocommit=True)
+        conn.execute("DROP TRIGGER records_no_update ON records")
+        mark = "%s"
+    prev = rows[record_id - 2].record_hash
+    for r in rows[record_id - 1 :]:
+        content = r.content()
+        if r.id == record_id:
+            content["verdict"] = "nonconforming"
+        h = record_hash(prev, content)
+        conn.execute(
+            f"UPDATE records SET verdict = {mark}, prev_hash = {mark}, record_hash = {mark} "
+            f"WHERE id = {mark}",
+            (content["verdict"], prev, h, r.id),
+        )
+        prev = h
+    conn.close()
+
+
+def test_checkpoint_catches_a_wholesale_rewrite_on_both_backends(
+    store_location: str, run_cli, tmp_path: Path
+):
+    from speccheck.report import new_key
+
+    with RecordsStore.open(_loc(store_location)) as store:
+        for i in range(4):
+            store.append_check(make_result(0.2 + i / 10))
+        head = store.chain_head()
+        assert head == {"records": 4, "head_hash": store.list()[-1].record_hash}
+    key = new_key(tmp_path / "qa.p12", name="Dana Whitfield", passphrase=b"kestrel-pg-pass")
+    (tmp_path / "pw").write_bytes(b"kestrel-pg-pass\n")
+    cp = tmp_path / "cp.pdf"
+    sign = ["--sign", key.p12_path, "--passphrase-file", tmp_path / "pw"]
+    status, out, _ = run_cli("records", "checkpoint", "--db", store_location, *sign, "--out", cp)
+    assert status == 0 and f"(4 records, head {head['head_hash']})" in out
+    _rewrite_from(store_location, 2)
+    status, out, _ = run_cli("records", "audit", "--db", store_location, "--checkpoint", cp)
+    assert status == 1
+    assert "first record that disagrees with an anchor: 2" in out
+    expected = "ok" if store_location.startswith("sqlite:") else "not available"
+    assert f"integrity check: {expected}" in out
