@@ -25,6 +25,7 @@ from speccheck.cli.options import (
     record_flag,
     report_option,
     sign_option,
+    tsa_option,
     write_json,
 )
 from speccheck.errors import ExitStatus, SpeccheckError
@@ -146,6 +147,7 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
 @report_option
 @sign_option
 @passphrase_file_option
+@tsa_option
 @record_flag
 @db_option
 def command(
@@ -158,6 +160,7 @@ def command(
     report_out: str | None,
     sign_p12: str | None,
     passphrase_file: str | None,
+    tsa_url: str | None,
     record: bool,
     db: str | None,
 ) -> int:
@@ -172,6 +175,10 @@ def command(
         raise SpeccheckError("--sign needs --report OUT.pdf")
     if passphrase_file and not sign_p12:
         raise SpeccheckError("--passphrase-file needs --sign KEY.p12")
+    if tsa_url and not sign_p12:
+        raise SpeccheckError("--tsa needs --sign KEY.p12")
+    if tsa_url and not tsa_url.startswith(("http://", "https://")):
+        raise SpeccheckError(f"--tsa must be an http:// or https:// URL, got {tsa_url!r}")
     if db and not record:
         raise SpeccheckError("--db needs --record")
     from speccheck.evaluation.evaluator import evaluate, load_inputs
@@ -185,7 +192,7 @@ def command(
         click.echo(render_table(result, color=color), nl=False)
     report_sha256 = signer = None
     if report_out:
-        options = {"fmt": fmt, "dx": dx, "decimal": decimal}
+        options = {"fmt": fmt, "dx": dx, "decimal": decimal, "tsa_url": tsa_url}
         head = _chain_head(db) if (record and sign_p12) else None
         info = _write_report(
             result, loaded, profiles, report_out, sign_p12, passphrase_file, options, head
@@ -232,7 +239,8 @@ def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, opti
         profile_paths=[Path(p) for p in profiles],
         sign_p12=Path(sign_p12) if sign_p12 else None,
         passphrase=passphrase,
-        read_options=options,
+        read_options={k: v for k, v in options.items() if k != "tsa_url"},
+        tsa_url=options.get("tsa_url"),
         chain_head=head,
     )
 

@@ -121,6 +121,14 @@ passphrase_file_option = click.option(
     default=None,
     help="File whose first line is the key's passphrase (else $SPECCHECK_PASSPHRASE).",
 )
+tsa_option = click.option(
+    "--tsa",
+    "tsa_url",
+    metavar="URL",
+    default=None,
+    help="Time-stamping authority (RFC 3161, http:// or https://) whose token vouches for the "
+    "signing time.",
+)
 record_flag = click.option(
     "--record", "record", is_flag=True, help="Append the result to the records store."
 )
