@@ -166,7 +166,8 @@ def test_short_trace_exits_3_with_the_lengths(tmp_path, capsys):
         ),
         (
             ["--cutoff", "0.8mm", "--param", "Rmr(x)"],
-            "option --param: Rmr(x): the level must be a depth in µm, e.g. Rmr(0.5)",
+            "option --param: Rmr(x): the level must be a depth in µm, e.g. Rmr(0.5), or a depth "
+            "below the level at a reference ratio, e.g. Rmr(0.5,5%)",
         ),
     ],
 )

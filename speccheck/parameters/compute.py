@@ -54,6 +54,7 @@ __all__ = [
     "SECTION_FUNCTIONS",
     "compute_parameters",
     "evaluated_profile",
+    "check_parameter_names",
 ]
 
 
@@ -260,17 +261,21 @@ def _parse_extra(names: Sequence[str], conditions: Conditions) -> list[tuple[str
             continue  # a standard parameter: always computed
         if parsed.base == "mr":
             try:
-                depth = float(parsed.argument)
+                material.parse_relative_level(parsed.argument)
             except ValueError:
                 raise ValueError(
-                    f"{text}: the level must be a depth in µm, e.g. Rmr(0.5)"
+                    f"{text}: the level must be a depth in µm, e.g. Rmr(0.5), or a depth below "
+                    "the level at a reference ratio, e.g. Rmr(0.5,5%)"
                 ) from None
-            if not (depth >= 0.0 and math.isfinite(depth)):
-                raise ValueError(f"{text}: the depth below the highest peak must be ≥ 0 µm")
         elif parsed.base == "dc":
             material.parse_ratio_pair(parsed.argument)
         out.append((parsed.name, parsed.base, parsed.argument))
     return out
+
+
+def check_parameter_names(names: Sequence[str], conditions: Conditions) -> None:
+    """ValueError, with the message compute_parameters would give, for an unusable name."""
+    _parse_extra(names, conditions)
 
 
 def _mean_over_sections(name: str, per: np.ndarray, notes: list[str]) -> float:
@@ -374,7 +379,11 @@ def compute_parameters(
         _stratified(primary, line, dx, conditions, ev, values, notes)
     for name, base, arg in extras:
         if base == "mr":
-            v = material.material_ratio_at_depth(le, depth_um=float(arg))
+            depth, ref = material.parse_relative_level(arg)
+            if ref is None:
+                v = material.material_ratio_at_depth(le, depth_um=depth)
+            else:
+                v = material.relative_material_ratio(le, depth_um=depth, reference_pct=ref)
         else:
             a, b = material.parse_ratio_pair(arg)
             v = material.section_height_difference(le, mr1_pct=a, mr2_pct=b)

@@ -56,7 +56,11 @@ def material_ratio_at_depth(z_um, *, depth_um: float) -> float:
     z = _flat(z_um)
     if z.size < 2:
         raise ValueError("material ratio needs at least 2 points")
-    level = z.max() - depth_um
+    return _ratio_at_level(z, float(z.max()) - depth_um)
+
+
+def _ratio_at_level(z: np.ndarray, level: float) -> float:
+    """Material ratio in % at a height ``level`` (linear between samples)."""
     a = z[:-1] - level
     b = z[1:] - level
     hi = np.maximum(a, b)
@@ -64,6 +68,55 @@ def material_ratio_at_depth(z_um, *, depth_um: float) -> float:
     with np.errstate(divide="ignore", invalid="ignore"):
         part = np.where(lo >= 0.0, 1.0, np.where(hi <= 0.0, 0.0, hi / (hi - lo)))
     return float(100.0 * part.mean())
+
+
+def relative_material_ratio(z_um, *, depth_um: float, reference_pct: float) -> float:
+    """Relative material ratio Rmr in % (ISO 4287:1997 4.5.4, from memory; ISO 21920-2:2021).
+
+    The level is ``depth_um`` below the reference level C0, the height where the material ratio
+    curve reaches ``reference_pct`` (Rmr0), instead of below the highest peak: one spike moves
+    the highest peak by its whole height but C0 (at Rmr0 of a few %) hardly at all.
+
+    Parameters
+    ----------
+    z_um : array_like
+        Heights in µm over the evaluation length.
+    depth_um : float
+        Rδc, the depth below C0 in µm (≥ 0).
+    reference_pct : float
+        Rmr0 in % (0 ≤ Rmr0 < 100).
+    """
+    if not depth_um >= 0.0:
+        raise ValueError(f"depth_um must be ≥ 0, got {depth_um!r}")
+    if not 0.0 <= reference_pct < 100.0:
+        raise ValueError(
+            f"the reference material ratio must be in 0 ≤ Rmr0 < 100 %, got {reference_pct!r}"
+        )
+    z = _flat(z_um)
+    if z.size < 2:
+        raise ValueError("material ratio needs at least 2 points")
+    c0 = float(height_at_material_ratio(reference_pct, material_ratio_curve(z)))
+    return _ratio_at_level(z, c0 - depth_um)
+
+
+def parse_relative_level(text: str) -> tuple[float, float | None]:
+    """``"0.5"`` -> (0.5, None); ``"0.5,5%"`` -> (0.5, 5.0): depth in µm and Rmr0 in %."""
+    parts = [p.strip() for p in text.split(",")]
+    if len(parts) > 2 or not parts[0]:
+        raise ValueError(f"expected a depth in µm and an optional reference ratio, got {text!r}")
+    depth = float(parts[0])
+    if not (depth >= 0.0 and np.isfinite(depth)):
+        raise ValueError("the depth below the reference level must be ≥ 0 µm")
+    if len(parts) == 1:
+        return depth, None
+    if not parts[1].endswith("%"):
+        raise ValueError(
+            f"the reference material ratio needs '%', e.g. 'Rmr(0.5,5%)', got {text!r}"
+        )
+    ref = float(parts[1][:-1])
+    if not 0.0 <= ref < 100.0:
+        raise ValueError("the reference material ratio must be in 0 ≤ Rmr0 < 100 %")
+    return depth, ref
 
 
 def material_ratio_curve(z_um) -> tuple[np.ndarray, np.ndarray]:

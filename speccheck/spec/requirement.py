@@ -70,7 +70,7 @@ class Requirement:
         parsed = parse_parameter_name(self.parameter)
         if parsed is None:
             raise SpeccheckError(f"unknown parameter {self.parameter!r}")
-        return Conditions(
+        cond = Conditions(
             lambda_c_mm=self.lambda_c_mm,
             lambda_s_um=self.lambda_s_um,
             lambda_f_mm=self.lambda_f_mm,
@@ -80,6 +80,13 @@ class Requirement:
             profile=parsed.letter,
             definitions=self.definitions,
         )
+        from speccheck.parameters.compute import check_parameter_names
+
+        try:  # a parametrised name that compute would refuse (Rmr(x)) is refused here
+            check_parameter_names([self.parameter], cond)
+        except ValueError as exc:
+            raise SpeccheckError(str(exc)) from None
+        return cond
 
     @property
     def evaluation_length_mm(self) -> float:
