@@ -100,3 +100,23 @@ def test_lint_warns_when_a_limit_looks_written_in_the_other_unit(tmp_path, capsy
     plain = write(tmp_path, 'units: um\nrequirements:\n  - "Ra 0.8"\n', "plain.yaml")
     assert main(["lint", str(plain)]) == 0
     assert "warning" not in capsys.readouterr().out
+
+
+def test_record_view_shows_the_drawing_unit(tmp_path):
+    """The record's view model (shared by PDF and page) words limits and values in µin, the µm
+    limits beside them: 16 µin = 0.4064 µm (NIST SP 811)."""
+    from speccheck.evaluation.evaluator import evaluate_files
+    from speccheck.report.view import SignatureView, build_view
+
+    spec = write(tmp_path, 'convention: asme\nunits: uin\nrequirements:\n  - "Ra 16"\n')
+    prof = tmp_path / "p.csv"
+    x = np.arange(11200) * 0.5
+    write_csv(prof, Profile(0.5 * np.sin(2 * np.pi * x / 100.0), 0.5))
+    result = evaluate_files(spec, [prof])
+    sig = SignatureView(False, "NOT SIGNED", "—", "not stated", "—", "—", "")
+    (req,) = build_view(result, signature=sig).requirements
+    assert req.limits.endswith("16 µin (upper 0.4064 µm)")
+    (row,) = req.values
+    assert row.value.endswith(" µin") and float(row.value.split()[0]) == pytest.approx(
+        2 * 0.5 / np.pi / 0.0254, rel=2e-3
+    )

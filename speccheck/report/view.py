@@ -211,6 +211,23 @@ def _limits_text(upper: float | None, lower: float | None, unit: str) -> str:
     return "none stated"
 
 
+def _value_text(v: Any, req: Any) -> str:
+    """A value in the drawing's unit (µin on inch drawings), else in its own unit."""
+    du, dv = getattr(req, "drawing_unit", None), getattr(v, "drawing_value", None)
+    if du and dv is not None:
+        return format_number(dv, du)
+    return format_number(v.value, v.unit)
+
+
+def _drawing_limits_text(req: Any) -> str:
+    """Limits in the drawing's unit with the µm values beside them when the two differ."""
+    own = _limits_text(req.upper, req.lower, req.unit)
+    du, dl = getattr(req, "drawing_unit", None), getattr(req, "drawing_limits", None)
+    if not du or not dl:
+        return own
+    return f"{_limits_text(dl.get('upper'), dl.get('lower'), du)} ({own})"
+
+
 def _conditions_text(c: Mapping[str, Any]) -> str:
     parts = []
     if c.get("lambda_c_mm") is not None:
@@ -371,7 +388,7 @@ def build_view(
                     measurement=str(v.measurement + 1),
                     file=files.get(v.measurement, "—"),
                     section=str(v.section + 1) if v.section is not None else "",
-                    value=format_number(v.value, v.unit),
+                    value=_value_text(v, req),
                     zone=_ZONE_WORDS.get(v.zone or "", "—"),
                     counts_as={"within": "within", "exceeding": "EXCEEDING"}.get(
                         v.counts_as or "", "—"
@@ -397,7 +414,7 @@ def build_view(
                 number=i,
                 callout=req.text,
                 parameter=req.parameter,
-                limits=_limits_text(req.upper, req.lower, req.unit),
+                limits=_drawing_limits_text(req),
                 rule=_RULE_WORDS.get(req.rule, req.rule),
                 decision_rule=_DECISION_WORDS.get(req.decision_rule, req.decision_rule),
                 decision_short=req.decision_rule.replace("-", " ")
