@@ -43,6 +43,14 @@ def _progress_callback():
     return report, stop
 
 
+def _chain_head(db: str | None) -> dict:
+    """The store's head now: the signed lot record carries it, anchoring the chain outside."""
+    from speccheck.records.store import RecordsStore, default_db_path
+
+    with RecordsStore.open(default_db_path(db)) as store:
+        return store.chain_head()
+
+
 @click.command(name="lot")
 @click.argument("plan", type=InputPath("inspection plan"))
 @click.option(
@@ -115,6 +123,9 @@ def command(
             plan_raw=loaded.raw,
             sign_p12=sign_p12,
             passphrase=passphrase,
+            plan=loaded,
+            data_dir=data_dir,
+            chain_head=_chain_head(db) if (record and sign_p12) else None,
         )
         if sign_p12:
             from speccheck.report.signing import signer_identity

@@ -85,11 +85,12 @@ def command(report: Path, trust: tuple[Path, ...], as_json: bool) -> int:
     the certificate's validity or later than now, untrusted with --trust, or the recomputed
     result differs); 2 not a speccheck record. Without --trust an intact record is verified but
     its signer's identity is unproven: compare the printed certificate fingerprint with the one
-    the signer's organisation publishes. Calls speccheck.report.verify.verify_report.
+    the signer's organisation publishes. A lot record is recomputed the same way from the plan,
+    specs and profiles it attaches. Calls speccheck.lot.verify.verify_record.
     """
-    from speccheck.report.verify import verify_report
+    from speccheck.lot.verify import verify_record
 
-    result = verify_report(report, trust=trust)
+    result = verify_record(report, trust=trust)
     if as_json:
         click.echo(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))
     else:

@@ -223,6 +223,9 @@ def run_demo(folder: str | Path, *, echo: Callable[[str], None] = print) -> Demo
         plan_raw=plan_path.read_bytes(),
         sign_p12=p12,
         passphrase=passphrase,
+        plan=load_plan(plan_path),
+        data_dir=root / "lot" / "data",
+        demo_key=True,
     )
     store.append_lot(lot, report_sha256=lot_sha, signer="DEMO KEY")
     run.lot_disposition = lot.disposition

@@ -272,7 +272,11 @@ def lot_view(
 
 
 def render_lot_html(
-    result: LotResult, *, signer: dict[str, Any] | None = None, plots: bool = True
+    result: LotResult,
+    *,
+    signer: dict[str, Any] | None = None,
+    plots: bool = True,
+    status: str = "NOT SIGNED",
 ) -> str:
     """Fill ``templates/lot.html`` with :func:`lot_view`."""
     from markupsafe import Markup
@@ -283,8 +287,77 @@ def render_lot_html(
     return (
         template_environment()
         .get_template("lot.html")
-        .render(v=lot_view(result, signer=signer, plots=plots), css=css)
+        .render(v={**lot_view(result, signer=signer, plots=plots), "status": status}, css=css)
     )
+
+
+LOT_RESULT_NAME = "lot-result.json"
+LOT_MANIFEST_NAME = "speccheck-lot-manifest.json"
+LOT_MANIFEST_KIND = "speccheck lot record"
+
+
+def _signature_status(signed: bool, demo_key: bool) -> str:
+    if not signed:
+        return "NOT SIGNED"
+    return "DIGITALLY SIGNED" + (" (DEMONSTRATION KEY: proves nothing)" if demo_key else "")
+
+
+def _unique(name: str, taken: set[str]) -> str:
+    out, i = name, 2
+    while out in taken:
+        out, i = f"{i}-{name}", i + 1
+    taken.add(out)
+    return out
+
+
+def lot_inputs(plan: Any, data_dir: str | Path) -> tuple[list[Any], dict[str, Any]]:
+    """Every input of a lot as attachments, and the manifest that says which is which.
+
+    The plan, each surface's spec (with the path the plan names it by) and each sampled part's
+    profiles (with their path below the data folder), all exactly as read.
+    """
+    from speccheck.lot.plan import find_part_files
+    from speccheck.report.pdf import EmbeddedFile
+
+    taken = {LOT_RESULT_NAME, LOT_MANIFEST_NAME}
+    plan_name = _unique(Path(plan.path).name, taken)
+    files = [EmbeddedFile(plan_name, plan.raw, "the inspection plan, as read")]
+    specs = []
+    for s in plan.surfaces:
+        data = s.spec_path.read_bytes()
+        name = _unique(f"spec-{s.name}-{s.spec_path.name}", taken)
+        files.append(EmbeddedFile(name, data, f"specification of surface {s.name}, as read"))
+        specs.append(
+            {
+                "surface": s.name,
+                "name": name,
+                "plan_path": s.spec_text,
+                "sha256": hashlib.sha256(data).hexdigest(),
+            }
+        )
+    profiles = []
+    root = Path(data_dir)
+    for serial, by_surface in find_part_files(plan, root).items():
+        for surface, paths in by_surface.items():
+            for p in paths:
+                data = p.read_bytes()
+                name = _unique(f"{serial}-{surface}-{p.name}", taken)
+                files.append(EmbeddedFile(name, data, f"part {serial}, {surface}, as read"))
+                profiles.append(
+                    {
+                        "name": name,
+                        "rel_path": p.relative_to(root).as_posix(),
+                        "sha256": hashlib.sha256(data).hexdigest(),
+                    }
+                )
+    manifest = {
+        "kind": LOT_MANIFEST_KIND,
+        "plan": {"name": plan_name, "sha256": hashlib.sha256(plan.raw).hexdigest()},
+        "specs": specs,
+        "profiles": profiles,
+        "result": LOT_RESULT_NAME,
+    }
+    return files, manifest
 
 
 def write_lot_report(
@@ -295,8 +368,18 @@ def write_lot_report(
     sign_p12: str | Path | None = None,
     passphrase: bytes | None = None,
     tsa_url: str | None = None,
+    plan: Any = None,
+    data_dir: str | Path | None = None,
+    demo_key: bool = False,
+    chain_head: dict[str, Any] | None = None,
 ) -> str:
-    """Write the lot report PDF (attachments: lot JSON, plan file; signed if a key is given).
+    """Write the lot report PDF, signed if a key is given.
+
+    With ``plan`` (the :class:`~speccheck.lot.plan.LoadedPlan`) and ``data_dir`` the record
+    attaches every input (plan, specs, profiles as read) and a manifest, so that ``verify``
+    recomputes the lot; otherwise only the lot JSON and ``plan_raw``. ``demo_key`` labels the
+    key as a throwaway on every page; ``chain_head`` is the records store's head, kept in the
+    attached lot JSON.
 
     Returns
     -------
@@ -319,17 +402,25 @@ def write_lot_report(
             "fingerprint": ident.sha256_fingerprint,
             "self_signed": ident.self_signed,
         }
-    pdf = render_pdf(render_lot_html(result, signer=signer))
+    status = _signature_status(signer is not None, demo_key)
+    pdf = render_pdf(render_lot_html(result, signer=signer, status=status))
+    lot_dict = result.to_dict()
+    if chain_head is not None:
+        lot_dict["records_chain"] = dict(chain_head)
     files = [
         EmbeddedFile(
-            "lot-result.json",
-            (
-                json.dumps(result.to_dict(), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-            ).encode("utf-8"),
+            LOT_RESULT_NAME,
+            (json.dumps(lot_dict, indent=2, ensure_ascii=False, allow_nan=False) + "\n").encode(
+                "utf-8"
+            ),
             "the lot result as JSON",
         )
     ]
-    if plan_raw is not None:
+    if plan is not None and data_dir is not None:
+        inputs, manifest = lot_inputs(plan, data_dir)
+        files += inputs
+        files.append(EmbeddedFile(LOT_MANIFEST_NAME, json.dumps(manifest, indent=1).encode()))
+    elif plan_raw is not None:
         files.append(
             EmbeddedFile(Path(result.plan["path"]).name, plan_raw, "the inspection plan, as read")
         )

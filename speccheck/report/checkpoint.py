@@ -30,6 +30,7 @@ __all__ = [
 CHECKPOINT_NAME = "speccheck-checkpoint.json"
 CHECKPOINT_KIND = "speccheck records checkpoint"
 MAX_CHECKPOINT_BYTES = 1 << 30
+LOT_RESULT_NAME = "lot-result.json"  # the result a lot record attaches (speccheck.lot.report)
 
 
 @dataclass(frozen=True)
@@ -146,7 +147,8 @@ def read_record_anchor(path: Path, *, trust: Sequence[Path] = ()) -> dict[str, A
     data = read_bounded(path, limit=MAX_CHECKPOINT_BYTES, role="record", error=ReportError)
     try:
         files = read_embedded_files(data, path=str(path))
-        result = json.loads(files[RESULT_NAME])
+        name = RESULT_NAME if RESULT_NAME in files else LOT_RESULT_NAME
+        result = json.loads(files[name])
         chain = result[CHAIN_KEY]
         records, head = int(chain["records"]), str(chain["head_hash"])
     except (ReportError, KeyError, ValueError, TypeError):
