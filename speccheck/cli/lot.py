@@ -14,6 +14,7 @@ from speccheck.cli.options import (
     record_flag,
     report_option,
     sign_option,
+    tsa_option,
     write_json,
 )
 
@@ -63,6 +64,7 @@ def _chain_head(db: str | None) -> dict:
 @report_option
 @sign_option
 @passphrase_file_option
+@tsa_option
 @json_out_option("Write the lot result as JSON to FILE ('-' for standard output).")
 @record_flag
 @db_option
@@ -78,6 +80,7 @@ def command(
     report_out: str | None,
     sign_p12: str | None,
     passphrase_file: str | None,
+    tsa_url: str | None,
     json_out: str | None,
     record: bool,
     db: str | None,
@@ -98,6 +101,8 @@ def command(
 
     if sign_p12 and not report_out:
         raise SpeccheckError("--sign needs --report OUT.pdf (the signature goes on the report)")
+    if tsa_url and not sign_p12:
+        raise SpeccheckError("--tsa needs --sign KEY.p12")
     for out in (report_out, json_out):
         if out and out != "-" and not Path(out).resolve().parent.is_dir():
             raise SpeccheckError(f"folder {str(Path(out).parent)!r} does not exist", path=out)
@@ -125,6 +130,7 @@ def command(
             passphrase=passphrase,
             plan=loaded,
             data_dir=data_dir,
+            tsa_url=tsa_url,
             chain_head=_chain_head(db) if (record and sign_p12) else None,
         )
         if sign_p12:

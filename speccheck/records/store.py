@@ -21,6 +21,7 @@ WAL mode, so each appended record sees the true last record and the chain stays 
 
 from __future__ import annotations
 
+import builtins
 import csv
 import datetime as _dt
 import hashlib
@@ -703,13 +704,13 @@ class RecordsStore:
                 ),
             )
 
-    def missing_guards(self) -> list[str]:
+    def missing_guards(self) -> builtins.list[str]:
         """Names of append-only triggers that are not (or no longer) in the database."""
         rows = self._conn.execute("SELECT name FROM sqlite_master WHERE type = 'trigger'")
         present = {r[0] for r in rows}
         return [name for name in SQLITE_GUARDS if name not in present]
 
-    def integrity_problems(self) -> list[str] | None:
+    def integrity_problems(self) -> builtins.list[str] | None:
         """What SQLite's ``PRAGMA integrity_check`` reports (empty when it says ok)."""
         try:
             rows = [str(r[0]) for r in self._conn.execute("PRAGMA integrity_check(20)")]
