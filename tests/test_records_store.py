@@ -290,6 +290,10 @@ def test_audit_names_a_corrupt_row(tmp_path: Path):
     assert res.findings[1].message == "record 2 is corrupt: its result is not valid JSON"
     assert res.findings[2].message == "record 3 is corrupt: signer is not text"
     assert not res.chain_intact
+    with RecordsStore.open(db) as store:
+        assert store.list()[1].to_dict()["result"] is None  # listed, not a traceback
+        with pytest.raises(RecordsError, match="corrupt: its result is not valid JSON"):
+            store.get(2)
 
 
 def test_audit_runs_sqlite_integrity_check(tmp_path: Path):

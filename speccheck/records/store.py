@@ -171,10 +171,14 @@ class Record:
         }
 
     def to_dict(self) -> dict[str, Any]:
-        """Plain data for JSON export: the result is embedded as an object."""
+        """Plain data for JSON export: the result is embedded as an object (None when the
+        stored text is not JSON: a corrupt row, which ``records audit`` names)."""
         d = self.content()
         d.pop("result_json")
-        d["result"] = self.result
+        try:
+            d["result"] = self.result
+        except (TypeError, ValueError):
+            d["result"] = None
         d["prev_hash"] = self.prev_hash
         d["record_hash"] = self.record_hash
         return d
@@ -544,10 +548,16 @@ class RecordsStore:
         return list(self._rows(sql, tuple(params)))
 
     def get(self, record_id: int) -> Record:
-        """The record with this id; :class:`RecordsError` naming it if there is none."""
+        """The record with this id; :class:`RecordsError` naming it if there is none or it is
+        corrupt (``records audit`` says more)."""
         rows = list(self._rows(f"{_SELECT} WHERE id = ?", (int(record_id),)))
         if not rows:
             raise RecordsError("no such record", path=str(self.path), where=f"record {record_id}")
+        corrupt = _corruption(rows[0])
+        if corrupt:
+            raise RecordsError(
+                f"corrupt: {corrupt}", path=str(self.path), where=f"record {record_id}"
+            )
         return rows[0]
 
     def chain_head(self) -> dict[str, Any]:
