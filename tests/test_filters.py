@@ -451,3 +451,13 @@ def test_ones_response_equals_numpy_convolve(n, k):
     np.testing.assert_allclose(
         ones_response(kern, n), np.convolve(np.ones(n), kern)[r : r + n], atol=1e-12
     )
+
+
+def test_fast_length_is_scipys_next_fast_len():
+    # Reference: scipy.fft.next_fast_len(n, real=True), the 5-smooth sizes of pocketfft.
+    import scipy.fft
+
+    from speccheck.filters._blockconv import fast_length
+
+    sizes = [*range(1, 3000), 11_201 * 2 - 1, 999_983, 1_048_577, 10**7 + 1]
+    assert [fast_length(n) for n in sizes] == [scipy.fft.next_fast_len(n, real=True) for n in sizes]

@@ -126,3 +126,14 @@ def test_probability_parameters_of_gaussian_equal_rq():
     assert res.Rpq == pytest.approx(0.8, rel=0.03)
     assert res.Rvq == pytest.approx(0.8, rel=0.03)
     assert not math.isnan(res.Rmq)
+
+
+def test_standard_normal_matches_scipy():
+    # Reference: scipy.special.ndtr / ndtri (Cephes), used here only to check the stdlib forms
+    # that the probability grid uses (statistics.NormalDist, math.erfc).
+    from scipy.special import ndtr, ndtri
+
+    x = np.linspace(-2.6, 2.6, 400)
+    assert np.allclose(rk._normal_cdf(x), ndtr(x), rtol=1e-14, atol=0)
+    for p in (0.005, 0.16, 0.5, 0.995):
+        assert rk._STD_NORMAL.inv_cdf(p) == pytest.approx(ndtri(p), rel=1e-14)

@@ -10,7 +10,21 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["BlockConvolver", "ones_response"]
+__all__ = ["BlockConvolver", "ones_response", "fast_length"]
+
+
+def fast_length(n: int) -> int:
+    """Smallest 5-smooth length (2^a 3^b 5^c) ≥ n: a fast size for numpy's pocketfft."""
+    best = _pow2_at_least(n)
+    p5 = 1
+    while p5 < best:
+        p35 = p5
+        while p35 < best:
+            m = p35 * _pow2_at_least(-(-n // p35))  # least power of two taking p35 to ≥ n
+            best = min(best, m)
+            p35 *= 3
+        p5 *= 5
+    return best
 
 
 def ones_response(kernel: np.ndarray, n: int) -> np.ndarray:
@@ -51,8 +65,6 @@ class BlockConvolver:
     """
 
     def __init__(self, n: int, kernels: list[np.ndarray]):
-        import scipy.fft as sfft
-
         size = kernels[0].size
         if size % 2 != 1 or any(k.size != size for k in kernels):
             raise ValueError("kernels must share one odd length")
@@ -61,20 +73,16 @@ class BlockConvolver:
         self.block = min(_pow2_at_least(max(4 * size, 8192)), _pow2_at_least(n + size - 1))
         self.step = self.block - 2 * self.r
         self.nblocks = -(-n // self.step)
-        self.spectra = [sfft.rfft(k, self.block) for k in kernels]
+        self.spectra = [np.fft.rfft(k, self.block) for k in kernels]
 
     def transform(self, f: np.ndarray) -> np.ndarray:
         """Block spectra of a signal (nblocks × block/2+1)."""
-        import scipy.fft as sfft
-
         padded = np.zeros(self.nblocks * self.step + 2 * self.r)
         padded[self.r : self.r + self.n] = f
         blocks = np.lib.stride_tricks.sliding_window_view(padded, self.block)[:: self.step]
-        return sfft.rfft(blocks[: self.nblocks], axis=-1, workers=-1)
+        return np.fft.rfft(blocks[: self.nblocks], axis=-1)
 
     def convolve(self, spectrum: np.ndarray, kernel_index: int) -> np.ndarray:
         """'same' convolution of the transformed signal with kernel ``kernel_index``."""
-        import scipy.fft as sfft
-
-        y = sfft.irfft(spectrum * self.spectra[kernel_index], self.block, axis=-1, workers=-1)
+        y = np.fft.irfft(spectrum * self.spectra[kernel_index], self.block, axis=-1)
         return y[:, 2 * self.r :].reshape(-1)[: self.n]

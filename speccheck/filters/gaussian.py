@@ -85,9 +85,7 @@ def _edge_mass(kernel: np.ndarray, n: int) -> np.ndarray:
 
 @lru_cache(maxsize=8)
 def _kernel_spectrum(dx_um: float, cutoff_um: float, nfft: int) -> np.ndarray:
-    import scipy.fft as sfft
-
-    return sfft.rfft(gaussian_kernel(dx_um=dx_um, cutoff_um=cutoff_um), nfft)
+    return np.fft.rfft(gaussian_kernel(dx_um=dx_um, cutoff_um=cutoff_um), nfft)
 
 
 @lru_cache(maxsize=8)
@@ -105,15 +103,15 @@ def _convolve_same(z: np.ndarray, dx_um: float, cutoff_um: float, r: int) -> np.
     spectra are cached (the same λc is applied several times per evaluation). Both ways are
     exact to rounding; the choice is by speed only (bench/run.py).
     """
-    import scipy.fft as sfft
+    from speccheck.filters._blockconv import fast_length
 
     n, size = z.size, 2 * r + 1
     if 16 * size <= n:
         bc = _block_convolver(n, dx_um, cutoff_um)
         return bc.convolve(bc.transform(z), 0)
-    nfft = sfft.next_fast_len(n + size - 1, real=True)
+    nfft = fast_length(n + size - 1)
     spec = _kernel_spectrum(dx_um, cutoff_um, nfft)
-    return sfft.irfft(sfft.rfft(z, nfft) * spec, nfft)[r : r + n]
+    return np.fft.irfft(np.fft.rfft(z, nfft) * spec, nfft)[r : r + n]
 
 
 def gaussian_mean_line(z_um, *, dx_um: float, cutoff_um: float) -> np.ndarray:

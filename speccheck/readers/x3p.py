@@ -21,8 +21,8 @@ import io
 import re
 import zipfile
 import zlib
+from html import escape as _html_escape
 from pathlib import Path, PurePosixPath
-from xml.sax.saxutils import escape
 
 import numpy as np
 
@@ -52,6 +52,12 @@ _UM_PER_M = 1e6
 # Record2 requires a Date; write_x3p writes this when the profile has none, and the reader
 # treats it as "no date".
 _NO_DATE = "1970-01-01T00:00:00"
+
+
+def escape(text: str) -> str:
+    """XML character data: &, < and > escaped (what xml.sax.saxutils.escape does, without
+    importing urllib and http along with it)."""
+    return _html_escape(text, quote=False)
 
 
 def _local(tag: str) -> str:
