@@ -186,13 +186,14 @@ def test_bad_file_exit_2_naming_the_file(tmp_path, capsys):
     assert err.startswith(f"speccheck: error: {path}:3:2: not a number") and err.count("\n") == 1
 
 
-def test_flat_profile_gives_null_not_nan(tmp_path, capsys):
+def test_flat_profile_is_not_evaluated(tmp_path, capsys):
+    # Rq = 0 and Rsk = 0/0 (ISO 4287:1997 4.2.2, 4.2.3): nothing was measured; exit 3, no NaN.
     path = tmp_path / "flat.csv"
     write_csv(path, Profile(np.zeros(12000), DX_UM))
     status, d = run_json(capsys, path, "--cutoff", "0.8mm")
-    assert status == 0
-    assert d["parameters"]["Rsk"]["value"] is None
-    assert any(n.startswith("no core found for Rk") for n in d["notes"])
+    assert status == 3
+    assert d["insufficient_data"]["kind"] == "flat"
+    assert "no surface texture was measured" in d["insufficient_data"]["reason"]
 
 
 def test_parametrised_values_and_table(tmp_path, capsys):

@@ -324,12 +324,13 @@ def test_values_per_section(tmp_path):
 
 
 def test_parameter_not_computed_on_flat_profile(tmp_path):
-    # a flat trace has no skewness (0/0): the value is unknown, never 0 or NaN in the record
+    # a flat trace has Rq = 0 and no skewness (0/0): not evaluated, never 0 or NaN in the record
     spec = write_spec(tmp_path, '- {parameter: Rsk, upper: "0.5", cutoff: 0.8mm}\n')
     flat = Profile(np.zeros(FULL_POINTS), DX_UM, source=SourceInfo(path="flat.csv", sha256="s"))
     res = evaluate(spec, [flat], created="t")
     r = res.requirements[0]
-    assert (r.verdict, r.reason, r.values[0].value) == ("undecided", "parameter-not-computed", None)
+    assert (r.verdict, r.reason, r.values[0].value) == ("undecided", "insufficient-data", None)
+    assert "flat over the evaluation length" in r.next
     json.dumps(res.to_dict(), allow_nan=False)  # NaN never reaches the JSON
 
 
@@ -397,11 +398,19 @@ def test_no_profiles_is_undecided(tmp_path):
     )
 
 
-def test_no_core_for_rk_is_parameter_not_computed(tmp_path):
-    # ISO 13565-2 needs a material ratio curve with a core; a flat trace has none
+def test_no_core_for_rk_is_parameter_not_computed(tmp_path, monkeypatch):
+    # ISO 13565-2 needs a material ratio curve with a core; when the Rk construction finds none
+    # on a textured profile, Rk is not computed (a flat profile is refused before, see above)
+    import speccheck.parameters.rk as rk
+
+    monkeypatch.setattr(
+        rk, "rk_parameters", lambda r, curve=None: rk.NoCore("no core found for Rk: test")
+    )
     spec = write_spec(tmp_path, "- {parameter: Rk, upper: 2um, cutoff: 0.8mm}\n")
-    flat = Profile(np.zeros(FULL_POINTS), DX_UM, source=SourceInfo(path="flat.csv", sha256="s"))
-    r = evaluate(spec, [flat], created="t").requirements[0]
+    x = np.arange(FULL_POINTS) * DX_UM
+    z = np.sin(2 * np.pi * x / 100.0)
+    textured = Profile(z, DX_UM, source=SourceInfo(path="sine.csv", sha256="s"))
+    r = evaluate(spec, [textured], created="t").requirements[0]
     assert (r.verdict, r.reason) == ("undecided", "parameter-not-computed")
     assert r.values[0].note.startswith("parameter-not-computed: no core found for Rk")
 

@@ -10,6 +10,7 @@ import pytest
 
 from speccheck.filters.gaussian import ALPHA
 from speccheck.parameters.compute import (
+    FLAT_TOLERANCE_UM,
     EvaluatedProfiles,
     InsufficientData,
     ParameterSet,
@@ -155,16 +156,24 @@ def test_nan_heights_are_refused():
         compute_parameters(z, dx_um=DX_UM, conditions=Conditions(0.8, None))
 
 
-def test_flat_profile_gives_nulls_and_notes_not_nan_in_json():
+def test_flat_profile_is_insufficient_data_not_nan():
+    # Rq = 0 (ISO 4287:1997 4.2.2) and Rsk = Rku = 0/0: no texture was measured; a falsy result
     ps = compute_parameters(np.zeros(12000), dx_um=DX_UM, conditions=Conditions(0.8, None))
-    d = ps.to_dict()
-    text = json.dumps(d, allow_nan=False)  # raises on NaN
-    assert d["parameters"]["Rsk"]["value"] is None
-    assert d["parameters"]["RSm"] == {"value": None, "unit": "mm", "basis": "section"}
-    assert any(n.startswith("no core found for Rk") for n in d["notes"])
-    assert "Rk" not in d["parameters"]
-    assert any(n.startswith("RSm:") for n in d["notes"])
-    assert '"conditions"' in text and d["conditions"]["lambda_c_mm"] == 0.8
+    assert isinstance(ps, InsufficientData) and not ps and ps.kind == "flat"
+    assert "no surface texture was measured" in ps.reason
+    # heights within the flat tolerance count as flat too
+    tiny = trace(5.6, amplitude_um=FLAT_TOLERANCE_UM / 10)
+    assert compute_parameters(tiny, dx_um=DX_UM, conditions=Conditions(0.8, None)).kind == "flat"
+
+
+def test_texture_just_above_the_flat_tolerance_is_evaluated():
+    # sine of amplitude A: Ra = 2A/π (domain notes §4, check values [calc]); A = 1 nm
+    a = 1e-3
+    ps = compute_parameters(
+        trace(5.6, amplitude_um=a), dx_um=DX_UM, conditions=Conditions(0.8, None)
+    )
+    assert ps and ps.values["Ra"].value == pytest.approx(2 * a / math.pi, rel=1e-3)
+    json.dumps(ps.to_dict(), allow_nan=False)
 
 
 def test_waviness_profile_transmission():

@@ -300,6 +300,7 @@ def _insufficient(file: str, res: Any, as_json: bool) -> int:
                         "reason": res.reason,
                         "required_mm": res.required_mm,
                         "available_mm": res.available_mm,
+                        "kind": res.kind,
                     }
                 },
                 ensure_ascii=False,

@@ -167,6 +167,12 @@ def _unusable(profile: Profile, cond: Conditions) -> _Unknown | None:
 
 
 def _too_short(missing: InsufficientData, cond: Conditions) -> _Unknown:
+    if missing.kind == "flat":
+        return _Unknown(
+            "insufficient-data",
+            missing.reason,
+            "check the stylus contact and the file's height scale, then measure again",
+        )
     required = round(missing.required_mm, 4)
     return _Unknown(
         "insufficient-data",

@@ -51,6 +51,7 @@ __all__ = [
     "EvaluatedProfiles",
     "ParameterSet",
     "InsufficientData",
+    "FLAT_TOLERANCE_UM",
     "SECTION_FUNCTIONS",
     "compute_parameters",
     "evaluated_profile",
@@ -139,13 +140,22 @@ class ParameterSet:
         }
 
 
+# A profile whose heights all lie within this of its mean line after form removal and
+# filtering carries no measured texture (1 pm, far below the vertical resolution of any
+# surface-texture instrument, about 0.1 nm for the finest; from memory). Its Rq is 0 and Rsk,
+# Rku are 0/0: it is never evaluated.
+FLAT_TOLERANCE_UM = 1e-6
+
+
 @dataclass(frozen=True)
 class InsufficientData:
-    """The trace is too short for the conditions (falsy result, not an exception)."""
+    """The trace cannot be evaluated: too short for the conditions (``kind="too-short"``) or
+    flat after form removal and filtering (``kind="flat"``). A falsy result, not an exception."""
 
     reason: str
     required_mm: float
     available_mm: float
+    kind: str = "too-short"
 
     def __bool__(self) -> bool:
         return False
@@ -348,6 +358,15 @@ def compute_parameters(
         )
     primary, line, prof = evaluated_profile(z, dx_um=dx, conditions=conditions)
     start, n_eval = ev.start, ev.stop - ev.start
+    if not np.any(np.abs(prof[ev]) > FLAT_TOLERANCE_UM):
+        return InsufficientData(
+            f"the {letter} profile is flat over the evaluation length (all heights within "
+            f"±{FLAT_TOLERANCE_UM:g} µm after form removal and filtering): no surface texture "
+            "was measured",
+            required_mm=_required_trace_mm(conditions),
+            available_mm=available_mm,
+            kind="flat",
+        )
     if letter == "P":
         n_sec, m = 1, n_eval
     else:

@@ -22,7 +22,15 @@ from typing import Any
 
 from speccheck.errors import InputError, SpeccheckError
 from speccheck.profile import Profile, fill_dropouts
-from speccheck.readers._common import MIN_POINTS, SPACING_TOLERANCE, decode_text, read_source_bytes
+from speccheck.readers._common import (
+    MAX_ABS_HEIGHT_UM,
+    MAX_SPACING_UM,
+    MIN_POINTS,
+    MIN_SPACING_UM,
+    SPACING_TOLERANCE,
+    decode_text,
+    read_source_bytes,
+)
 from speccheck.readers.delimited import parse_delimited, write_csv
 from speccheck.readers.sdf import parse_sdf, write_sdf
 from speccheck.readers.x3p import (
@@ -36,6 +44,9 @@ from speccheck.units import Length, parse_length
 __all__ = [
     "FORMATS",
     "MIN_POINTS",
+    "MAX_ABS_HEIGHT_UM",
+    "MIN_SPACING_UM",
+    "MAX_SPACING_UM",
     "SPACING_TOLERANCE",
     "MAX_UNCOMPRESSED_BYTES",
     "MAX_COMPRESSION_RATIO",

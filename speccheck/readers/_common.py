@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import hashlib
+import math
+from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
@@ -11,11 +13,20 @@ from speccheck._atomic import read_bounded
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
 
+Locate = Callable[[int], str]
+
 __all__ = [
     "MIN_POINTS",
     "SPACING_TOLERANCE",
     "MAX_TEXT_BYTES",
+    "MAX_ABS_HEIGHT_UM",
+    "MIN_SPACING_UM",
+    "MAX_SPACING_UM",
+    "MIN_Z_SCALE_M",
+    "MAX_Z_SCALE_M",
     "read_source_bytes",
+    "check_scale",
+    "check_spacing",
     "decode_text",
     "profile_from_heights",
     "spacing_from_x",
@@ -32,6 +43,19 @@ SPACING_TOLERANCE = 0.01
 
 # Text files larger than this are refused before being read into memory (1 GiB).
 MAX_TEXT_BYTES = 1 << 30
+
+# Physical plausibility. A roughness or waviness profile never spans more than ±10 mm of height
+# (stylus instruments measure a few mm at most; common practice, no source); a height beyond it
+# comes from a wrong unit or scale in the file. Sampling spacings outside 0.1 nm .. 1 mm come
+# from no surface-texture instrument (the finest optical ones resolve about 0.1 nm laterally at
+# best, from memory; ISO 3274's coarsest spacing is 5 µm).
+MAX_ABS_HEIGHT_UM = 10_000.0
+MIN_SPACING_UM = 1e-4
+MAX_SPACING_UM = 1000.0
+# Height per stored unit, in metres (X3P Z increment, SDF Zscale): 1 m for heights stored in
+# metres as floats, down to 1 fm per count for integers (no instrument resolves finer).
+MIN_Z_SCALE_M = 1e-15
+MAX_Z_SCALE_M = 1.0
 
 
 def read_source_bytes(path: str | Path, *, limit: int = MAX_TEXT_BYTES) -> tuple[bytes, str]:
@@ -103,6 +127,66 @@ def spacing_from_x(x_um: np.ndarray, lines: np.ndarray, *, path: str) -> float:
     return float(f"{mean:.10g}")
 
 
+def check_scale(
+    value: float, *, what: str, unit: str, lo: float, hi: float, path: str, where: str | None
+) -> float:
+    """``value`` if it is a finite number within [lo, hi], else InputError naming ``what``.
+
+    A zero, negative, infinite or absurd scale in a file would turn every height or position into
+    a meaningless number (a zero height scale reads as a perfectly flat, conforming profile).
+    """
+    if not (math.isfinite(value) and value > 0):
+        raise InputError(
+            f"{what} {value!r} {unit} is not a positive finite number; the file's scale is "
+            "meaningless",
+            path=path,
+            where=where,
+        )
+    if not lo <= value <= hi:
+        raise InputError(
+            f"{what} {value:g} {unit} is outside the physically plausible {lo:g} .. {hi:g} {unit}",
+            path=path,
+            where=where,
+        )
+    return value
+
+
+def check_spacing(dx_um: float, *, path: str, where: str | None) -> float:
+    """``dx_um`` if within :data:`MIN_SPACING_UM` .. :data:`MAX_SPACING_UM`, else InputError."""
+    return check_scale(
+        dx_um,
+        what="sampling spacing",
+        unit="µm",
+        lo=MIN_SPACING_UM,
+        hi=MAX_SPACING_UM,
+        path=path,
+        where=where,
+    )
+
+
+def _check_heights(
+    z: np.ndarray, ok: np.ndarray, *, path: str, where: str | None, locate: Locate | None
+) -> None:
+    """Refuse infinite heights and heights beyond :data:`MAX_ABS_HEIGHT_UM`, naming the point."""
+    with np.errstate(invalid="ignore"):
+        bad = np.flatnonzero(ok & (np.isinf(z) | (np.abs(z) > MAX_ABS_HEIGHT_UM)))
+    if not bad.size:
+        return
+    i = int(bad[0])
+    place = locate(i) if locate is not None else f"{where + ', ' if where else ''}point {i + 1}"
+    if np.isinf(z[i]):
+        message = (
+            "height is infinite or too large for a number (such as 'inf' or '1e999'); "
+            "mark a point that was not measured as nan or an empty cell"
+        )
+    else:
+        message = (
+            f"height {z[i]:.6g} µm is beyond the ±{MAX_ABS_HEIGHT_UM / 1e3:g} mm a surface "
+            "profile can have; is the file's unit or height scale wrong?"
+        )
+    raise InputError(message, path=path, where=place)
+
+
 def profile_from_heights(
     z_um: np.ndarray,
     dx_um: float,
@@ -110,8 +194,13 @@ def profile_from_heights(
     source: SourceInfo,
     valid: np.ndarray | None = None,
     where: str | None = None,
+    locate: Locate | None = None,
 ) -> Profile:
-    """Check point count and validity, then build the Profile."""
+    """Check point count, spacing, heights and validity, then build the Profile.
+
+    ``locate(i)`` names the place of point ``i`` in the file (``"line 12, column 2"``) for
+    errors about one point; without it the point is named by its number.
+    """
     path = source.path
     z = np.asarray(z_um, dtype=np.float64)
     if z.size == 0:
@@ -120,9 +209,10 @@ def profile_from_heights(
         raise InputError(
             f"only {z.size} points; a profile needs at least {MIN_POINTS}", path=path, where=where
         )
-    if not (np.isfinite(dx_um) and dx_um > 0):
-        raise InputError(f"sampling spacing {dx_um!r} µm is not positive", path=path, where=where)
-    ok = np.isfinite(z) if valid is None else (np.asarray(valid, dtype=bool) & np.isfinite(z))
+    check_spacing(dx_um, path=str(path), where=where)
+    valid_in = np.ones(z.size, dtype=bool) if valid is None else np.asarray(valid, dtype=bool)
+    _check_heights(z, valid_in, path=str(path), where=where, locate=locate)
+    ok = valid_in & np.isfinite(z)
     if not ok.any():
         raise InputError(
             f"all {z.size} points are invalid (no measured height)", path=path, where=where

@@ -157,9 +157,10 @@ def parse_delimited(
         values = _checked_values(rows, row_lines, ncol, x_col, sep, decimal, path)
     lines = np.asarray(row_lines)
     z_col = next(k for k, (n, _) in enumerate(columns) if n == "z")
-    z_um = values[:, z_col] * columns[z_col][1]
-    if x_col is not None:
-        x_um = values[:, x_col] * columns[x_col][1]
+    with np.errstate(over="ignore", invalid="ignore"):  # overflow becomes inf, refused below
+        z_um = values[:, z_col] * columns[z_col][1]
+        x_um = values[:, x_col] * columns[x_col][1] if x_col is not None else None
+    if x_um is not None:
         bad = np.flatnonzero(~np.isfinite(x_um))
         if bad.size:
             raise InputError("x is not a finite number", path=path, where=f"line {lines[bad[0]]}")
@@ -182,7 +183,13 @@ def parse_delimited(
             )
         dx_um = dx.um
     source = SourceInfo(path=path, sha256=sha256, format=fmt, **meta)
-    return profile_from_heights(z_um, dx_um, source=source, where=f"line {header_line}")
+
+    def locate(i: int) -> str:
+        return f"line {int(lines[i])}, column {z_col + 1}"
+
+    return profile_from_heights(
+        z_um, dx_um, source=source, where=f"line {header_line}", locate=locate
+    )
 
 
 def _comment(line: str, meta: dict[str, str]) -> None:

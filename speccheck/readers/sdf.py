@@ -17,7 +17,13 @@ import numpy as np
 from speccheck._atomic import atomic_write_text
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
-from speccheck.readers._common import profile_from_heights
+from speccheck.readers._common import (
+    MAX_Z_SCALE_M,
+    MIN_Z_SCALE_M,
+    check_scale,
+    check_spacing,
+    profile_from_heights,
+)
 
 __all__ = ["parse_sdf", "write_sdf"]
 
@@ -78,8 +84,16 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
         )
     n_points = number("NumPoints", int)
     x_scale_m, z_scale_m = number("Xscale"), number("Zscale")
-    if not x_scale_m > 0:
-        raise InputError("Xscale must be positive", path=path, where=f"line {header['Xscale'][1]}")
+    check_spacing(x_scale_m * _UM_PER_M, path=path, where=f"line {header['Xscale'][1]}")
+    check_scale(
+        z_scale_m,
+        what="Zscale",
+        unit="m",
+        lo=MIN_Z_SCALE_M,
+        hi=MAX_Z_SCALE_M,
+        path=path,
+        where=f"line {header['Zscale'][1]}",
+    )
 
     values: list[float] = []
     j = i + 1
@@ -119,8 +133,26 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
         date=_date(header.get("CreateDate", (None, 0))[0]),
         comment=trailer.get("comment"),
     )
-    z_um = np.asarray(values, dtype=np.float64) * (z_scale_m * _UM_PER_M)
-    return profile_from_heights(z_um, x_scale_m * _UM_PER_M, source=source, where="header")
+    with np.errstate(over="ignore"):  # overflow becomes inf, refused by profile_from_heights
+        z_um = np.asarray(values, dtype=np.float64) * (z_scale_m * _UM_PER_M)
+
+    def locate(k: int) -> str:
+        return _value_place(lines, i + 1, k)
+
+    return profile_from_heights(
+        z_um, x_scale_m * _UM_PER_M, source=source, where="header", locate=locate
+    )
+
+
+def _value_place(lines: list[str], first: int, k: int) -> str:
+    """``line L, column C`` of the k-th (0-based) height of the data block starting at ``first``."""
+    seen = 0
+    for j in range(first, len(lines)):
+        tokens = lines[j].split()
+        if seen + len(tokens) > k:
+            return f"line {j + 1}, column {k - seen + 1}"
+        seen += len(tokens)
+    return f"height {k + 1}"
 
 
 def write_sdf(path: str | Path, profile: Profile) -> None:

@@ -29,7 +29,14 @@ import numpy as np
 from speccheck._atomic import atomic_write_bytes
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
-from speccheck.readers._common import profile_from_heights
+from speccheck.readers._common import (
+    MAX_ABS_HEIGHT_UM,
+    MAX_Z_SCALE_M,
+    MIN_Z_SCALE_M,
+    check_scale,
+    check_spacing,
+    profile_from_heights,
+)
 
 __all__ = [
     "MAX_UNCOMPRESSED_BYTES",
@@ -240,6 +247,7 @@ def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
             where="main.xml Record1/Axes/CX/AxisType",
         )
     dx_m = _float(root, "Record1/Axes/CX/Increment", path)
+    check_spacing(dx_m * _UM_PER_M, path=path, where="main.xml Record1/Axes/CX/Increment")
     dtype_code = _text(root, "Record1/Axes/CZ/DataType") or "D"
     if dtype_code not in _DTYPES:
         raise InputError(
@@ -248,7 +256,22 @@ def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
             where="main.xml Record1/Axes/CZ/DataType",
         )
     z_inc = _float(root, "Record1/Axes/CZ/Increment", path, default=1.0)
+    check_scale(
+        z_inc,
+        what="Z increment",
+        unit="m",
+        lo=MIN_Z_SCALE_M,
+        hi=MAX_Z_SCALE_M,
+        path=path,
+        where="main.xml Record1/Axes/CZ/Increment",
+    )
     z_off = _float(root, "Record1/Axes/CZ/Offset", path, default=0.0)
+    if not abs(z_off) <= MAX_ABS_HEIGHT_UM / _UM_PER_M:
+        raise InputError(
+            f"Z offset {z_off!r} m is not a finite height within ±{MAX_ABS_HEIGHT_UM / 1e3:g} mm",
+            path=path,
+            where="main.xml Record1/Axes/CZ/Offset",
+        )
     size_x = _int(root, "Record3/MatrixDimension/SizeX", path)
     size_y = _int(root, "Record3/MatrixDimension/SizeY", path)
     size_z = _int(root, "Record3/MatrixDimension/SizeZ", path)
@@ -327,13 +350,21 @@ def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
                     path=path,
                     where=f"main.xml Record3/DataList/Datum[{i + 1}]",
                 ) from None
-    if dtype_code in ("I", "L"):
-        z_m = values * z_inc + z_off
-    else:
-        z_m = values if (z_inc == 1.0 and z_off == 0.0) else values * z_inc + z_off
+    with np.errstate(over="ignore", invalid="ignore"):  # overflow: inf, refused below
+        if dtype_code in ("I", "L"):
+            z_m = values * z_inc + z_off
+        else:
+            z_m = values if (z_inc == 1.0 and z_off == 0.0) else values * z_inc + z_off
+        z_um = z_m * _UM_PER_M
     source = SourceInfo(path=path, sha256=sha256, format="x3p", **_record2(root))
+    place = "main.xml Record3/DataList/Datum[{}]" if link is None else f"{name} point {{}}"
     return profile_from_heights(
-        z_m * _UM_PER_M, dx_m * _UM_PER_M, source=source, valid=valid, where="main.xml Record3"
+        z_um,
+        dx_m * _UM_PER_M,
+        source=source,
+        valid=valid,
+        where="main.xml Record3",
+        locate=lambda i: place.format(i + 1),
     )
 
 

@@ -48,7 +48,7 @@ _ZONE_WORDS = {
 }
 _STATUS_WORDS = {
     "evaluated": "evaluated",
-    "insufficient-data": "not evaluated: trace too short",
+    "insufficient-data": "not evaluated: insufficient data",
     "other-conditions": "not evaluated: measured under other conditions",
     "dropouts": "not evaluated: too many missing points",
 }
