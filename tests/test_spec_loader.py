@@ -154,7 +154,7 @@ def test_whole_list_of_validation_errors(tmp_path):
         f"{path}:7:3: measurement.sections: Input should be greater than or equal to 1",
         f"{path}:8:3: unknown key 'filtre' in measurement (allowed: cutoff, ls, "
         "sections, "
-        "filter, form, value_per, periodic)",
+        "filter, form, value_per, periodic, ends)",
         f"{path}:11:5: requirements[1]: a requirement is callout text such as 'Ra 0.8' "
         "or a "
         "mapping with 'parameter'",

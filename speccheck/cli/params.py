@@ -130,6 +130,14 @@ def _fmt(value: float | None) -> str:
     help="Without --cutoff: choose λc by RSm for a periodic profile, by Ra otherwise "
     "(ISO 4288 7.2); auto decides by the autocorrelation test and reports its evidence.",
 )
+@click.option(
+    "--ends",
+    type=click.Choice(["run-in", "moment"]),
+    default="run-in",
+    show_default=True,
+    help="run-in: one cut-off at each end is left unevaluated; moment: the filters run to the "
+    "trace ends (ISO 16610-28 moment criterion) and the whole trace is evaluated.",
+)
 @format_option
 @dx_option
 @decimal_option
@@ -146,6 +154,7 @@ def command(
     extra: tuple[str, ...],
     convention: str,
     periodic: str,
+    ends: str,
     fmt: str | None,
     dx: str | None,
     decimal: str,
@@ -183,7 +192,7 @@ def command(
         choice: dict[str, Any] = {"source": "--cutoff"}
     else:
         chosen = _default_cutoff(
-            file, z, dx_um, ls_value, sections, filter_, form, table, periodic, as_json
+            file, z, dx_um, ls_value, sections, filter_, form, table, periodic, as_json, ends
         )
         if isinstance(chosen, int):
             return chosen
@@ -202,6 +211,7 @@ def command(
             form=form,
             profile=kind,
             definitions=definitions,
+            ends=ends,
         )
         result = compute_parameters(z, dx_um=dx_um, conditions=conditions, extra=extra)
     except SpeccheckError as exc:
@@ -252,6 +262,7 @@ def _default_cutoff(
     table: str,
     periodic: str,
     as_json: bool,
+    ends: str = "run-in",
 ) -> tuple[float, dict[str, Any]] | int:
     """λc by the ISO 4288 procedure and the record of how it was chosen (or an exit status)."""
     from speccheck.parameters.compute import InsufficientData
@@ -268,6 +279,7 @@ def _default_cutoff(
             form=form,
             table=table,
             periodic=mode,
+            ends=ends,
         )
     except SpeccheckError as exc:
         raise SpeccheckError(f"default cut-off: {exc.message}", path=file) from None
@@ -326,7 +338,8 @@ def _print_table(out: dict[str, Any]) -> None:
         f"λc {c['lambda_c_mm']:g} mm, λs {ls}{lf}, "
         f"evaluation length {c['evaluation_length_mm']:g} mm in {c['sections']} sections, "
         f"{c['filter']} filter, form {c['form']}, profile {c['profile']}, "
-        f"definitions {_EDITION[c['definitions']]}"
+        f"definitions {_EDITION[c['definitions']]}, "
+        + ("filters run to the ends" if c.get("ends") == "moment" else "run-in and run-out")
     )
     choice = out["cutoff_choice"]
     if choice["source"] != "--cutoff":

@@ -454,6 +454,8 @@ def _requirement_result(
         "sections": cond.sections,
         "evaluation_length_mm": cond.evaluation_length_mm,
         "required_trace_mm": cond.required_trace_mm,
+        "ends": cond.ends,
+        "ends_source": req.ends_source,
         "max_spacing_um": max_spacing_for_um(cond.lambda_c_mm),
         "filter": cond.filter,
         "reference_line": _reference_line(req, cond),

@@ -108,6 +108,7 @@ def _conditions_dict(c: Conditions) -> dict[str, Any]:
         "form": c.form,
         "profile": c.profile,
         "definitions": c.definitions,
+        "ends": c.ends,
     }
 
 
@@ -351,8 +352,12 @@ def compute_parameters(
         required_mm = _required_trace_mm(conditions)
         return InsufficientData(
             f"trace {available_mm:g} mm is shorter than the {required_mm:g} mm needed "
-            f"({conditions.sections} × {conditions.section_length_mm:g} mm plus "
-            f"{conditions.run_in_mm:g} mm run-in and run-out)",
+            f"({conditions.sections} × {conditions.section_length_mm:g} mm"
+            + (
+                f" plus {conditions.run_in_mm:g} mm run-in and run-out)"
+                if conditions.run_in_mm
+                else ", filters run to the ends)"
+            ),
             required_mm=required_mm,
             available_mm=available_mm,
         )
@@ -370,7 +375,7 @@ def compute_parameters(
     if letter == "P":
         n_sec, m = 1, n_eval
     else:
-        n_sec, m = conditions.sections, conditions.section_points(dx)
+        n_sec, m = conditions.sections, n_eval // conditions.sections
     notes: list[str] = []
     sec = _section_rows(prof, start, n_sec, m, 0)
     le = sec.reshape(-1)

@@ -79,6 +79,7 @@ def choose_lambda_c(
     form: str = "line",
     table: str = "iso4288",
     periodic: bool | Literal["auto"] = False,
+    ends: str = "run-in",
 ) -> DefaultCutoff | InsufficientData:
     """Default λc for a trace by the ISO 4288:1996 procedure (ISO 4288:1996 7.2.1, 7.2.2).
 
@@ -90,7 +91,7 @@ def choose_lambda_c(
         Sampling spacing in µm.
     lambda_s_um : float, None or "table"
         λs for every trial; ``"table"`` follows ISO 3274:1996 Table 1 for each trial λc.
-    sections, filter, form : as :class:`Conditions`.
+    sections, filter, form, ends : as :class:`Conditions`.
     table : str
         Cut-off table, ``"iso4288"`` or ``"iso21920-3"``.
     periodic : bool or "auto"
@@ -107,7 +108,12 @@ def choose_lambda_c(
 
     def conditions(lc: float) -> Conditions:
         return Conditions(
-            lc, lambda_s_for(lc, lambda_s_um), sections=sections, filter=filter, form=form
+            lc,
+            lambda_s_for(lc, lambda_s_um),
+            sections=sections,
+            filter=filter,
+            form=form,
+            ends=ends,
         )
 
     def compute(lc: float):

@@ -255,6 +255,10 @@ def _conditions_text(c: Mapping[str, Any]) -> str:
         parts.append(f"sampling spacing at most {plain_number(c['max_spacing_um'], 'µm')}")
     if c.get("required_trace_mm") is not None:
         parts.append(f"trace of at least {plain_number(c['required_trace_mm'], 'mm')}")
+    if c.get("ends") == "moment":
+        parts.append("filters run to the trace ends (ISO 16610-28 moment criterion)")
+    elif c.get("ends") == "run-in":
+        parts.append("one cut-off of run-in and run-out")
     if c.get("value_per") == "section":
         parts.append("one value per section")
     return "; ".join(parts) if parts else "not recorded"

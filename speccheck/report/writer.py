@@ -157,13 +157,13 @@ def profiles_for_plot(z_um: Any, *, dx_um: float, conditions: Any) -> PlotProfil
         return None
     primary, line, rough = evaluated_profile(z, dx_um=dx_um, conditions=conditions)
     x_mm = np.arange(z.size) * (dx_um / 1000.0)
-    step = conditions.section_points(dx_um)
+    step = (sl.stop - sl.start) // conditions.sections
     bounds = tuple(
         float(x_mm[sl.start] + k * step * dx_um / 1000.0) for k in range(conditions.sections + 1)
     )
     from speccheck.parameters.amplitude import skewness
 
-    rows = rough[sl].reshape(conditions.sections, step)
+    rows = rough[sl.start : sl.start + step * conditions.sections].reshape(conditions.sections, step)
     rsk = float(np.mean(skewness(rows)))
     return PlotProfiles(
         x_mm[sl], primary[sl], line[sl], rough[sl], bounds, rsk if np.isfinite(rsk) else None

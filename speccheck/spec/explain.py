@@ -100,6 +100,11 @@ def _trace_words(req: Requirement) -> str:
         c = req.conditions()
     except SpeccheckError as exc:
         return f"cannot be evaluated: {exc.message}"
+    if c.ends == "moment":
+        return (
+            f"at least {c.required_trace_mm:g} mm, all of it evaluated (filters run to the "
+            f"trace ends by the ISO 16610-28 moment criterion) — speccheck"
+        )
     return (
         f"at least {c.required_trace_mm:g} mm ({c.evaluation_length_mm:g} mm evaluated, "
         f"{c.run_in_mm:g} mm run-in and run-out each) — speccheck"

@@ -67,6 +67,13 @@ class Measurement(_Strict):
         description="true: the profile is periodic, default cut-offs follow RSm (ISO 4288:1996 "
         "Table 3); false or absent: by Ra or Rz (Tables 1, 2).",
     )
+    ends: Literal["run-in", "moment"] | None = Field(
+        default=None,
+        description="How the filters meet the trace ends. 'run-in' (default): one cut-off at "
+        "each end is left unevaluated, so the trace must be the evaluation length plus two "
+        "cut-offs. 'moment': the filters run to the ends by the ISO 16610-28 moment criterion "
+        "and the whole trace, which then needs to be only the evaluation length, is evaluated.",
+    )
 
 
 class Diagnostics(_Strict):

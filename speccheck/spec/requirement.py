@@ -58,6 +58,9 @@ class Requirement:
     # The unit the drawing states heights in ("µm" or "µin"); limits above are always in
     # `unit`. Only µm parameters are shown in µin; others keep their own unit.
     drawing_unit: str = ""
+    # How the filters meet the trace ends (Conditions.ends) and where that came from.
+    ends: Literal["run-in", "moment"] = "run-in"
+    ends_source: str = ""
 
     def conditions(self) -> Conditions:
         """The measurement conditions this requirement is evaluated under (one place for all).
@@ -79,6 +82,7 @@ class Requirement:
             form=self.form,
             profile=parsed.letter,
             definitions=self.definitions,
+            ends=self.ends,
         )
         from speccheck.parameters.compute import check_parameter_names
 

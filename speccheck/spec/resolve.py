@@ -506,8 +506,24 @@ class _Resolver:
             "filter_source": filter_source,
             "form_source": form_source,
             "definitions": "iso21920-2" if conv == "iso21920" else "iso4287",
+            **self.ends_fields(),
             **lf_fields,
             "drawing_unit": drawing_unit,
+        }
+
+    def ends_fields(self) -> dict[str, Any]:
+        """How the filters meet the trace ends, with its source (run-in unless stated)."""
+        if self.spec.measurement.ends == "moment":
+            return {
+                "ends": "moment",
+                "ends_source": "measurement.ends: filters run to the trace ends by the "
+                "ISO 16610-28 moment criterion (from memory)",
+            }
+        stated = self.spec.measurement.ends is not None
+        return {
+            "ends": "run-in",
+            "ends_source": ("measurement.ends" if stated else "default")
+            + ": one cut-off of run-in and run-out at each end",
         }
 
     def drawing_unit(self, item: str | RequirementFields, unit: str) -> str:
