@@ -41,6 +41,7 @@ from speccheck.evaluation.decision import (
     counts_as_exceeding,
     zone,
 )
+from speccheck.evaluation.periodic import apply_periodic_test
 from speccheck.evaluation.result import (
     CheckResult,
     MeasurementRecord,
@@ -618,7 +619,8 @@ def evaluate(
     """
     from speccheck.parameters.compute import compute_parameters
 
-    reqs = list(spec.requirements)
+    prepared = [_prepare(p) for p in profiles]
+    reqs = apply_periodic_test(list(spec.requirements), prepared)
     conds = []
     for req in reqs:
         _check_requirement(spec, req)
@@ -630,7 +632,6 @@ def evaluate(
         if "(" in req.parameter and req.parameter not in lst:
             lst.append(req.parameter)
 
-    prepared = [_prepare(p) for p in profiles]
     computed: dict[tuple[int, Conditions], Any] = {}
 
     def params(i: int, cond: Conditions) -> Any:

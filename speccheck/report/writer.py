@@ -95,28 +95,41 @@ def _read_profiles(result: Any, profile_paths: Sequence[Path]) -> list[bytes]:
     return datas
 
 
-def _plot_conditions(spec: Any) -> tuple[Any | None, Any | None]:
+def _plot_conditions(spec: Any, result: Any) -> tuple[Any | None, Any | None]:
     """Conditions for the profile plots and, when the Rk family is required, for its curve.
 
-    The profile plot uses the first roughness (R) requirement's conditions; the material ratio
-    curve uses the ISO 13565-1 reference line the Rk family is computed on (or the robust filter
-    when the requirement asks for it).
+    The profile plot uses the first roughness (R) requirement's conditions as evaluated (λc and
+    λs from the result, where the evaluation settled them); the material ratio curve uses the
+    ISO 13565-1 reference line the Rk family is computed on (or the robust filter when the
+    requirement asks for it).
     """
     from dataclasses import replace
 
     from speccheck.parameters.conditions import Conditions
 
-    def conditions(r: Any) -> Any:
+    evaluated = {
+        i: (getattr(rr, "conditions", None) or {})
+        for i, rr in enumerate(getattr(result, "requirements", ()))
+    }
+
+    def conditions(i: int, r: Any) -> Any:
+        c = evaluated.get(i, {})
         return Conditions(
-            r.lambda_c_mm, r.lambda_s_um, sections=r.sections, filter=r.filter, form=r.form
+            c.get("lambda_c_mm", r.lambda_c_mm),
+            c.get("lambda_s_um", r.lambda_s_um),
+            sections=r.sections,
+            filter=r.filter,
+            form=r.form,
+            ends=getattr(r, "ends", "run-in"),
         )
 
-    reqs = [r for r in getattr(spec, "requirements", ()) if str(r.parameter).startswith("R")]
-    main = conditions(reqs[0]) if reqs else None
+    all_reqs = list(enumerate(getattr(spec, "requirements", ())))
+    reqs = [(i, r) for i, r in all_reqs if str(r.parameter).startswith("R")]
+    main = conditions(*reqs[0]) if reqs else None
     rk = None
-    for r in getattr(spec, "requirements", ()):
+    for i, r in all_reqs:
         if r.parameter in RK_FAMILY:
-            c = conditions(r)
+            c = conditions(i, r)
             rk = replace(c, filter="iso13565-1") if c.filter == "gaussian" else c
             break
     return main, rk
@@ -200,7 +213,7 @@ def _plots(
 
     plots: dict[int, list[PlotView]] = {}
     notes: dict[int, str] = {}
-    main, rk_cond = _plot_conditions(spec)
+    main, rk_cond = _plot_conditions(spec, result)
     if main is None:
         return plots, {
             m.index: "No roughness requirement: no profile plot." for m in result.measurements

@@ -62,10 +62,11 @@ class Measurement(_Strict):
     filter: Literal["gaussian", "robust"] | None = None
     form: Form | None = None
     value_per: Literal["evaluation-length", "section"] = "evaluation-length"
-    periodic: bool | None = Field(
+    periodic: bool | Literal["auto"] | None = Field(
         default=None,
-        description="true: the profile is periodic, default cut-offs follow RSm (ISO 4288:1996 "
-        "Table 3); false or absent: by Ra or Rz (Tables 1, 2).",
+        description="true: the profile is periodic, default cut-offs follow an RSm limit (ISO "
+        "4288:1996 Table 3); false or absent: by Ra or Rz (Tables 1, 2); auto: by Ra or Rz "
+        "unless the first measurement tests periodic (autocorrelation), then by its RSm.",
     )
     ends: Literal["run-in", "moment"] | None = Field(
         default=None,

@@ -61,6 +61,9 @@ class Requirement:
     # How the filters meet the trace ends (Conditions.ends) and where that came from.
     ends: Literal["run-in", "moment"] = "run-in"
     ends_source: str = ""
+    # True when λc came from the Ra/Rz table under `periodic: auto`: the evaluation replaces it
+    # by the RSm row (ISO 4288:1996 Table 3) when the first measurement tests periodic.
+    periodic_test: bool = False
 
     def conditions(self) -> Conditions:
         """The measurement conditions this requirement is evaluated under (one place for all).

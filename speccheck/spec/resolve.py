@@ -418,14 +418,23 @@ class _Resolver:
         table = "iso21920-3" if conv == "iso21920" else "iso4288"
         if band_lc is not None:
             lc, lc_source = band_lc, "transmission band in the callout"
+            periodic_test = False
         elif req_lc is not None:
             lc, lc_source = req_lc, "cutoff in the requirement"
+            periodic_test = False
         elif d.lambda_c_mm is not None:
             lc, lc_source = d.lambda_c_mm, "measurement.cutoff in the spec"
+            periodic_test = False
         else:
             lc, lc_source = self.table_cutoff(
                 kp, parsed, upper if upper is not None else lower, table
             )
+            periodic_test = self.spec.measurement.periodic == "auto"
+            if periodic_test:
+                lc_source += (
+                    "; periodic: auto, replaced by the RSm row (ISO 4288:1996 Table 3) if the "
+                    "first measurement tests periodic"
+                )
 
         # short-wave cut-off λs
         ls: float | None
@@ -507,6 +516,7 @@ class _Resolver:
             "form_source": form_source,
             "definitions": "iso21920-2" if conv == "iso21920" else "iso4287",
             **self.ends_fields(),
+            "periodic_test": periodic_test,
             **lf_fields,
             "drawing_unit": drawing_unit,
         }
@@ -563,7 +573,7 @@ class _Resolver:
             raise self.err(kp, f"no default cut-off can be read from a limit of {name}: {how}")
         value_um = value * 1000.0 if unit == "mm" else value
         try:
-            return _table_cutoff(name, value_um, table, bool(self.spec.measurement.periodic))
+            return _table_cutoff(name, value_um, table, self.spec.measurement.periodic is True)
         except SpeccheckError as exc:
             reason = exc.message.split(";")[0]
             raise self.err(kp, f"{reason}: {how}") from None
