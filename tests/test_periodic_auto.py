@@ -15,7 +15,6 @@ import math
 import numpy as np
 import pytest
 
-from speccheck.cli.main import main
 from speccheck.profile import Profile
 from speccheck.readers import write_csv
 

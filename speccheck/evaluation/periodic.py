@@ -78,7 +78,11 @@ def _settle(req: Requirement, profile: Profile) -> tuple[float, float | None, st
     """(λc, λs, source) for ``req`` from the test on ``profile`` (module docstring)."""
     import numpy as np
 
-    from speccheck.parameters.compute import compute_parameters, evaluated_profile
+    from speccheck.parameters.compute import (
+        InsufficientData,
+        compute_parameters,
+        evaluated_profile,
+    )
     from speccheck.parameters.conditions import select_lambda_c
     from speccheck.parameters.periodicity import periodicity
 
@@ -100,7 +104,7 @@ def _settle(req: Requirement, profile: Profile) -> tuple[float, float | None, st
 
     def measure(lc: float) -> float:
         res = compute_parameters(z, dx_um=dx, conditions=_conditions(req, lc))
-        if not res:
+        if isinstance(res, InsufficientData):
             raise _TooShort(lc)
         return res.values["RSm"].value * 1000.0  # the table reads µm
 

@@ -65,8 +65,10 @@ def check_instrument(path: str | Path) -> tuple[LoadedInstrument | None, list[Sp
 
     try:
         raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="instrument file", error=SpecError)
-    except SpeccheckError as exc:
-        return None, [exc]
+    except SpeccheckError as exc:  # I/O errors keep their message; the list holds SpecErrors
+        if isinstance(exc, SpecError):
+            return None, [exc]
+        return None, [SpecError(exc.message, path=p, where=exc.where)]
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:

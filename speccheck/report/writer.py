@@ -176,7 +176,9 @@ def profiles_for_plot(z_um: Any, *, dx_um: float, conditions: Any) -> PlotProfil
     )
     from speccheck.parameters.amplitude import skewness
 
-    rows = rough[sl.start : sl.start + step * conditions.sections].reshape(conditions.sections, step)
+    rows = rough[sl.start : sl.start + step * conditions.sections].reshape(
+        conditions.sections, step
+    )
     rsk = float(np.mean(skewness(rows)))
     return PlotProfiles(
         x_mm[sl], primary[sl], line[sl], rough[sl], bounds, rsk if np.isfinite(rsk) else None

@@ -132,8 +132,10 @@ def check_spec(path: str | Path) -> SpecCheck:
     result = SpecCheck(path=p, spec=None)
     try:
         raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="specification", error=SpecError)
-    except SpeccheckError as exc:
-        result.errors.append(exc)
+    except SpeccheckError as exc:  # I/O errors keep their message; the list holds SpecErrors
+        result.errors.append(
+            exc if isinstance(exc, SpecError) else SpecError(exc.message, path=p, where=exc.where)
+        )
         return result
     try:
         text = raw.decode("utf-8-sig")
