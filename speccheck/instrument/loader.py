@@ -12,7 +12,7 @@ from pathlib import Path
 
 from pydantic import BaseModel
 
-from speccheck.errors import SpecError
+from speccheck.errors import SpeccheckError, SpecError
 from speccheck.instrument.models import (
     Amplification,
     Calibration,
@@ -21,7 +21,8 @@ from speccheck.instrument.models import (
     Noise,
     Repeatability,
 )
-from speccheck.spec._yaml import KeyPath, load_yaml, where
+from speccheck.spec._text import apply_written_text
+from speccheck.spec._yaml import KeyPath, decode_yaml_bytes, load_yaml, where
 
 __all__ = ["LoadedInstrument", "load_instrument", "check_instrument"]
 
@@ -52,7 +53,9 @@ def _model_at(path: KeyPath) -> type[BaseModel] | None:
     return None
 
 
-def check_instrument(path: str | Path) -> tuple[LoadedInstrument | None, list[SpecError]]:
+def check_instrument(
+    path: str | Path,
+) -> tuple[LoadedInstrument | None, list[SpeccheckError]]:
     """Read and validate ``path``; every error found, sorted by position (for lint)."""
     from pydantic import ValidationError
 
@@ -60,7 +63,6 @@ def check_instrument(path: str | Path) -> tuple[LoadedInstrument | None, list[Sp
 
     p = str(path)
     from speccheck._atomic import read_bounded
-    from speccheck.errors import SpeccheckError
     from speccheck.spec._yaml import MAX_SPEC_BYTES
 
     try:
@@ -70,20 +72,20 @@ def check_instrument(path: str | Path) -> tuple[LoadedInstrument | None, list[Sp
             return None, [exc]
         return None, [SpecError(exc.message, path=p, where=exc.where)]
     try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        return None, [SpecError("the file is not UTF-8 text", path=p, where=f"byte {exc.start}")]
-    try:
-        doc = load_yaml(text, p)
+        doc = load_yaml(decode_yaml_bytes(raw, p), p)
     except SpecError as exc:
         return None, [exc]
     if not isinstance(doc.data, dict):
         message = "an instrument file is a mapping starting with 'instrument_version: 1'"
         return None, [SpecError(message, path=p, where=where(1, 1))]
+    text_errors = apply_written_text(InstrumentFile, doc, p)
     try:
         model = InstrumentFile.model_validate(doc.data)
     except ValidationError as exc:
-        return None, sorted(_pydantic_errors(exc, doc, p, _model_at), key=_sort_key)
+        errors = text_errors + _pydantic_errors(exc, doc, p, _model_at)
+        return None, sorted(errors, key=_sort_key)
+    if text_errors:
+        return None, sorted(text_errors, key=_sort_key)
     return LoadedInstrument(p, hashlib.sha256(raw).hexdigest(), raw, model), []
 
 

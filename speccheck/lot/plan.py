@@ -187,26 +187,27 @@ def load_plan(path: str | Path) -> LoadedPlan:
     """
     from pydantic import ValidationError
 
-    from speccheck.spec._yaml import load_yaml, where
+    from speccheck.spec._text import apply_written_text
+    from speccheck.spec._yaml import decode_yaml_bytes, load_yaml, where
 
     p = str(path)
     from speccheck._atomic import note_input, read_bounded
     from speccheck.spec._yaml import MAX_SPEC_BYTES
 
     raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="inspection plan", error=SpecError)
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise SpecError(f"not UTF-8 text (byte {exc.start})", path=p) from None
-    doc = load_yaml(text, p)
+    doc = load_yaml(decode_yaml_bytes(raw, p), p)
     if not isinstance(doc.data, dict):
         raise SpecError(
             "an inspection plan is a mapping starting with 'plan_version: 1'",
             path=p,
             where=where(1, 1),
         )
+    plan_model = _models()
+    text_errors = apply_written_text(plan_model, doc, p)
+    if text_errors:
+        raise text_errors[0]
     try:
-        model = _models().model_validate(doc.data)
+        model = plan_model.model_validate(doc.data)
     except ValidationError as exc:
         errors: list[tuple[int, int, int, str]] = []
         for e in exc.errors(include_url=False):

@@ -17,7 +17,7 @@ from pathlib import Path
 from typing import Literal
 
 from speccheck.diagnostics import sensitive_parameter_advice
-from speccheck.errors import SpeccheckError, SpecError
+from speccheck.errors import SpeccheckError
 from speccheck.parameters.names import parse_parameter_name
 from speccheck.spec._yaml import Document, KeyPath
 from speccheck.spec.explain import trace_lengths_note
@@ -58,7 +58,7 @@ def _position(where: str | None) -> tuple[int | None, int | None]:
         return None, None
 
 
-def _from_error(err: SpecError, path: str) -> Finding:
+def _from_error(err: SpeccheckError, path: str) -> Finding:
     line, col = _position(err.where)
     message = err.message if line is not None or not err.where else f"{err.where}: {err.message}"
     return Finding(err.path or path, line, col, "error", message)

@@ -14,7 +14,15 @@ from typing import Any
 
 from speccheck._atomic import read_bounded
 from speccheck.errors import SpeccheckError, SpecError
-from speccheck.spec._yaml import MAX_SPEC_BYTES, Document, KeyPath, load_yaml, where
+from speccheck.spec._text import apply_written_text
+from speccheck.spec._yaml import (
+    MAX_SPEC_BYTES,
+    Document,
+    KeyPath,
+    decode_yaml_bytes,
+    load_yaml,
+    where,
+)
 from speccheck.spec.models import SpecFile, model_at
 from speccheck.spec.requirement import LoadedSpec, Requirement
 
@@ -29,7 +37,7 @@ class SpecCheck:
 
     path: str
     spec: LoadedSpec | None
-    errors: list[SpecError] = field(default_factory=list)
+    errors: list[SpeccheckError] = field(default_factory=list)
     document: Document | None = None
     model: SpecFile | None = None
 
@@ -113,7 +121,7 @@ def _pydantic_errors(
     return errors
 
 
-def _sort_key(err: SpecError) -> tuple[int, int]:
+def _sort_key(err: SpeccheckError) -> tuple[int, int]:
     try:
         line_part, col_part = (err.where or "line 0, col 0").split(",")
         return int(line_part.split()[1]), int(col_part.split()[1])
@@ -138,14 +146,7 @@ def check_spec(path: str | Path) -> SpecCheck:
         )
         return result
     try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        result.errors.append(
-            SpecError("the file is not UTF-8 text", path=p, where=f"byte {exc.start}")
-        )
-        return result
-    try:
-        doc = load_yaml(text, p)
+        doc = load_yaml(decode_yaml_bytes(raw, p), p)
     except SpecError as exc:
         result.errors.append(exc)
         return result
@@ -161,10 +162,14 @@ def check_spec(path: str | Path) -> SpecCheck:
         return result
     from pydantic import ValidationError
 
+    text_errors = apply_written_text(SpecFile, doc, p)
     try:
         model = SpecFile.model_validate(doc.data)
     except ValidationError as exc:
-        result.errors = sorted(_pydantic_errors(exc, doc, p), key=_sort_key)
+        result.errors = sorted(text_errors + _pydantic_errors(exc, doc, p), key=_sort_key)
+        return result
+    if text_errors:
+        result.errors = sorted(text_errors, key=_sort_key)
         return result
     result.model = model
     from speccheck.spec.resolve import resolve_requirements
