@@ -123,7 +123,7 @@ def test_a_number_is_never_a_yes_no_value(tmp_path):
         tmp_path, spec_text("number: A\nrevision: B\nsurface: s\n", "measurement:\n  periodic: 1\n")
     )
     assert first_error(path) == (
-        f"{path}:9:13: measurement.periodic: 1 is not true or false; write true or false"
+        f"{path}:9:13: measurement.periodic: 1 is not true or false; write true, false or auto"
     )
 
 

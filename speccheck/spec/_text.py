@@ -100,12 +100,16 @@ def _walk(
                 return [_walk(inner, v, (*at, i), doc, path, out) for i, v in enumerate(value)]
         return value
     text_only = [o for o in options if o is not type(None)] == [str]
-    return _scalar(_scalar_kinds(options), text_only, value, at, doc, path, out)
+    words = [
+        v for o in options if get_origin(o) is Literal for v in get_args(o) if isinstance(v, str)
+    ]
+    return _scalar(_scalar_kinds(options), text_only, words, value, at, doc, path, out)
 
 
 def _scalar(
     kinds: set[type],
     text_only: bool,
+    words_allowed: list[str],
     value: Any,
     at: KeyPath,
     doc: Document,
@@ -121,7 +125,9 @@ def _scalar(
     if isinstance(value, bool) and bool not in kinds and kinds & {int, float}:
         message = f"{_key_text(at)}: {written} is a yes/no value, not a number; write a number"
         out.append(SpecError(message, path=path, where=where(line, col)))
-    elif not isinstance(value, bool) and kinds == {bool}:
-        message = f"{_key_text(at)}: {written} is not true or false; write true or false"
+    elif not isinstance(value, bool) and bool in kinds and not kinds & {int, float}:
+        words = ["true", "false", *words_allowed]
+        allowed = ", ".join(words[:-1]) + " or " + words[-1]
+        message = f"{_key_text(at)}: {written} is not true or false; write {allowed}"
         out.append(SpecError(message, path=path, where=where(line, col)))
     return value
