@@ -366,6 +366,11 @@ def _outputs(
             "the uncertainty model covers the roughness profile under the Gaussian filter "
             f"(got filter {conditions.filter}, profile {conditions.profile})"
         )
+    if getattr(conditions, "ends", "run-in") != "run-in":
+        raise ValueError(
+            "the uncertainty model needs run-in and run-out (stationary filters over the "
+            "evaluation length), not filters run to the trace ends"
+        )
     out = []
     for name, (value, _unit) in values.items():
         parsed = parse_parameter_name(name)

@@ -84,7 +84,7 @@ def numerical_tolerance(u: float, *, digits: int = 2) -> float:
 
 def batch_size(probability: float) -> int:
     """Trials per batch of the adaptive procedure: max(J, 10⁴), J = ⌈100/(1 − p)⌉ (JCGM 101 7.9.4)."""
-    return max(math.ceil(100.0 / (1.0 - probability) - 1e-9), 10_000)
+    return max(math.ceil(round(100.0 / (1.0 - probability), 6)), 10_000)
 
 
 @dataclass(frozen=True)
