@@ -56,7 +56,10 @@ def test_coverage_factor_normal_and_t():
 def test_welch_satterthwaite_by_hand():
     # JCGM 100:2008 G.4.1: uc² = 1 + 1 = 2, ν_eff = uc⁴ / (1⁴/4) = 4 · 4 = 16 (derived by hand)
     g = combine(
-        [Contribution("b", "type B", 1.0, "µm", 1.0), Contribution("a", "type A", 0.5, "µm", 2.0, 4)]
+        [
+            Contribution("b", "type B", 1.0, "µm", 1.0),
+            Contribution("a", "type A", 0.5, "µm", 2.0, 4),
+        ]
     )
     assert g.combined == pytest.approx(math.sqrt(2))
     assert g.dof == pytest.approx(16)
@@ -162,7 +165,9 @@ def test_noise_bandwidth_discrete_equals_closed_form(dx, lc, ls, rel):
     # closed form from the ISO 16610-21 Gaussian transmission (derivation in the docstring);
     # the discrete filters alias a little at 0.5 µm spacing, not at 0.1 µm
     g = noise_bandwidth(dx_um=dx, lambda_c_um=lc, lambda_s_um=ls)
-    assert g == pytest.approx(noise_bandwidth_closed_form(dx_um=dx, lambda_c_um=lc, lambda_s_um=ls), rel=rel)
+    assert g == pytest.approx(
+        noise_bandwidth_closed_form(dx_um=dx, lambda_c_um=lc, lambda_s_um=ls), rel=rel
+    )
 
 
 def _rq_squared_with_noise(amplitude: float, sigma: float, count: int) -> np.ndarray:
@@ -170,9 +175,9 @@ def _rq_squared_with_noise(amplitude: float, sigma: float, count: int) -> np.nda
     base = sine(amplitude)
     return np.array(
         [
-            compute_parameters(
-                base + sigma * rng.standard_normal(N), dx_um=DX, conditions=COND
-            ).values["Rq"].value
+            compute_parameters(base + sigma * rng.standard_normal(N), dx_um=DX, conditions=COND)
+            .values["Rq"]
+            .value
             ** 2
             for _ in range(count)
         ]

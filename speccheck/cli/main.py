@@ -42,6 +42,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "key": ("speccheck.cli.key", "Make a signing key and certificate (PKCS#12)."),
     "lot": ("speccheck.cli.lot", "Inspect a lot of parts under a sampling plan."),
     "records": ("speccheck.cli.records", "List, show, export, audit and trend the records store."),
+    "uncertainty": (
+        "speccheck.cli.uncertainty",
+        "Calibration studies for the uncertainty estimate: noise on a flat, repeatability.",
+    ),
     "replay": (
         "speccheck.cli.replay",
         "Re-evaluate archived measurements under a revised spec: what would change.",

@@ -63,9 +63,19 @@ class HorizontalScale(_Strict):
 
 
 class Noise(_Strict):
-    """Residual noise Rq0, from a trace on an optical flat."""
+    """Residual noise Rq0, from traces on an optical flat, and the conditions it was taken under.
+
+    The uncertainty model treats the noise as white, σ per sampled point: ``sigma`` when given,
+    else σ = Rq0/√g with g the noise bandwidth of the λc and λs Gaussians at ``spacing``.
+    """
 
     rq0: ValueText = Field(description="Rq of a trace on an optical flat, with unit: '0.004um'.")
+    sigma: ValueText | None = Field(
+        default=None, description="White-noise standard deviation per point, with unit."
+    )
+    lambda_c: ValueText | None = Field(default=None, description="λc Rq0 was taken at: '0.8mm'.")
+    lambda_s: ValueText | None = Field(default=None, description="λs Rq0 was taken at: '2.5um'.")
+    spacing: ValueText | None = Field(default=None, description="Sampling spacing: '0.5um'.")
     date: dt.date | None = None
     certificate: str | None = None
     profiles: list[str] = Field(default_factory=list, description="SHA-256 of the flat traces.")
@@ -82,6 +92,8 @@ class Repeatability(_Strict):
     """Repeatability study: per-parameter standard deviations and the evidence."""
 
     date: dt.date | None = None
+    lambda_c: ValueText | None = Field(default=None, description="λc of the study: '0.8mm'.")
+    lambda_s: ValueText | None = Field(default=None, description="λs of the study: '2.5um'.")
     profiles: list[str] = Field(default_factory=list, description="SHA-256 of the traces.")
     parameters: dict[str, RepeatabilityEntry] = Field(default_factory=dict)
 

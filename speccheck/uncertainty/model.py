@@ -323,7 +323,9 @@ def estimate_values(
     z = np.asarray(z_um, dtype=np.float64).reshape(-1)
     outputs = _outputs(values, conditions, errors)
     s = _setup(z, float(dx_um), conditions)
-    gums = {o.name: _gum(o.name, o.param, values[o.name][1], s, errors, probability) for o in outputs}
+    gums = {
+        o.name: _gum(o.name, o.param, values[o.name][1], s, errors, probability) for o in outputs
+    }
     outputs = [
         _Output(o.name, o.param, o.value, gums[o.name].contributions[1].sensitivity, o.repeat)
         for o in outputs
@@ -394,11 +396,21 @@ def _estimate(
     """Compare GUM with Monte Carlo (JCGM 101:2008 8.2, from memory) and choose U."""
     ci = mc.intervals[j]
     delta = mc.tolerance[j]
-    agree = abs(o.value - g.expanded - ci.low) <= delta and abs(
-        o.value + g.expanded - ci.high
-    ) <= delta
+    agree = (
+        abs(o.value - g.expanded - ci.low) <= delta and abs(o.value + g.expanded - ci.high) <= delta
+    )
     u_mc = max(o.value - ci.low, ci.high - o.value)
     governing = "GUM" if agree else "Monte Carlo"
     return Estimate(
-        o.name, o.value, unit, g, mc, j, agree, governing, g.expanded if agree else u_mc, bias, delta
+        o.name,
+        o.value,
+        unit,
+        g,
+        mc,
+        j,
+        agree,
+        governing,
+        g.expanded if agree else u_mc,
+        bias,
+        delta,
     )

@@ -83,7 +83,7 @@ def numerical_tolerance(u: float, *, digits: int = 2) -> float:
 
 
 def batch_size(probability: float) -> int:
-    """Trials per batch of the adaptive procedure: max(J, 10⁴), J = ⌈100/(1 − p)⌉ (JCGM 101 7.9.4)."""
+    """Trials per batch: max(J, 10⁴), J = ⌈100/(1 − p)⌉ (JCGM 101:2008 7.9.4)."""
     return max(math.ceil(round(100.0 / (1.0 - probability), 6)), 10_000)
 
 
@@ -152,7 +152,10 @@ def adaptive_monte_carlo(
         lo_all, hi_all = _limits(every, probability)
         u_all = every.std(axis=0, ddof=1)
         delta = np.array(
-            [tolerance(float(u), 0.5 * float(b - a)) for u, a, b in zip(u_all, lo_all, hi_all)]
+            [
+                tolerance(float(u), 0.5 * float(b - a))
+                for u, a, b in zip(u_all, lo_all, hi_all, strict=True)
+            ]
         )
         table = np.asarray(stats)
         spread = _batch_spread(table)
@@ -163,7 +166,7 @@ def adaptive_monte_carlo(
                 tuple(float(v) for v in u_all),
                 tuple(
                     CoverageInterval(float(a), float(b), probability)
-                    for a, b in zip(lo_all, hi_all)
+                    for a, b in zip(lo_all, hi_all, strict=True)
                 ),
                 every.shape[0],
                 len(stats),

@@ -70,9 +70,7 @@ def noise_bandwidth(*, dx_um: float, lambda_c_um: float, lambda_s_um: float | No
     return float(np.sum(w * h * h) / n)
 
 
-def noise_bandwidth_closed_form(
-    *, dx_um: float, lambda_c_um: float, lambda_s_um: float
-) -> float:
+def noise_bandwidth_closed_form(*, dx_um: float, lambda_c_um: float, lambda_s_um: float) -> float:
     """g = 2Δx ∫₀^∞ |Hs(f)(1 − Hc(f))|² df with Gaussian transfers (ISO 16610-21 transmission).
 
     Hs = exp(−π(αλs f)²), Hc = exp(−π(αλc f)²), α = √(ln 2/π); expanding the square gives three
