@@ -76,15 +76,17 @@ def check(run_cli, path, expected, *extra):
         ),
         (
             _csv().replace("z [um]", "z").encode(),
-            "1:2: column 'z' has no unit; write e.g. 'z [um]'",
+            "1:2: column 'z' has no unit; write e.g. 'z [um]' in the header or 'z=N[um]' with "
+            "--columns",
         ),
         (
             _csv().replace("z [um]", "y [um]").encode(),
-            "1:2: unknown column 'y [um]'; expected 'x [unit]' and 'z [unit]'",
+            "1: no height column in the header; name it 'z [um]' or pick it with --columns z=NAME",
         ),
         (
             _csv().replace("x [mm],z [um]\n", "").encode(),
-            "1: no header line; name the columns and their units first, e.g. 'x [mm],z [um]'",
+            "1: no header line; name the columns and their units first, e.g. 'x [mm],z [um]', "
+            "or give them with --columns x=1[mm],z=2[um]",
         ),
         (_csv().replace("0.0015,0", "0.0015,0,7").encode(), "5: 3 fields, the header names 2"),
         (

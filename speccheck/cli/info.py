@@ -6,7 +6,14 @@ import json
 
 import click
 
-from speccheck.cli.options import InputPath, decimal_option, dx_option, format_option, json_flag
+from speccheck.cli.options import (
+    InputPath,
+    columns_option,
+    decimal_option,
+    dx_option,
+    format_option,
+    json_flag,
+)
 
 __all__ = ["command"]
 
@@ -16,15 +23,18 @@ __all__ = ["command"]
 @format_option
 @dx_option
 @decimal_option
+@columns_option
 @json_flag
-def command(file: str, fmt: str | None, dx: str | None, decimal: str, as_json: bool) -> int:
+def command(
+    file: str, fmt: str | None, dx: str | None, decimal: str, columns: str | None, as_json: bool
+) -> int:
     """Describe a measured profile FILE: points, spacing, length, dropouts, SHA-256.
 
     Calls speccheck.readers.read_profile and speccheck.readers.profile_summary.
     """
     from speccheck.readers import profile_summary, read_profile
 
-    summary = profile_summary(read_profile(file, fmt=fmt, dx=dx, decimal=decimal))
+    summary = profile_summary(read_profile(file, fmt=fmt, dx=dx, decimal=decimal, columns=columns))
     if as_json:
         click.echo(json.dumps(summary, indent=2, ensure_ascii=False, allow_nan=False))
         return 0

@@ -82,6 +82,14 @@ decimal_option = click.option(
     show_default=True,
     help="Decimal separator of text files.",
 )
+columns_option = click.option(
+    "--columns",
+    default=None,
+    metavar="SPEC",
+    help="Text files: which columns hold x and z, by header name or number from 1, unit "
+    "optional, e.g. 'z=Height' or 'x=1[mm],z=3[um]' (default: by the header's names; other "
+    "columns are kept out).",
+)
 cutoff_option = click.option(
     "--cutoff", default=None, metavar="LENGTH", help="Cut-off λc, e.g. 0.8mm."
 )

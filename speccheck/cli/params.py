@@ -15,6 +15,7 @@ import click
 from speccheck.cli.options import (
     InputPath,
     cutoff_option,
+    columns_option,
     decimal_option,
     dx_option,
     format_option,
@@ -141,6 +142,7 @@ def _fmt(value: float | None) -> str:
 @format_option
 @dx_option
 @decimal_option
+@columns_option
 @json_flag
 def command(
     file: str,
@@ -158,6 +160,7 @@ def command(
     fmt: str | None,
     dx: str | None,
     decimal: str,
+    columns: str | None,
     as_json: bool,
 ) -> int:
     """Compute the surface-texture parameters of the profile in FILE.
@@ -176,7 +179,7 @@ def command(
         "table" if ls is None else None if ls.strip().lower() == "none" else _length_um(ls, "--ls")
     )
     lf_mm = None if lf is None else _length_um(lf, "--lf") / 1000.0
-    profile = fill_dropouts(read_profile(file, fmt=fmt, dx=dx, decimal=decimal))
+    profile = fill_dropouts(read_profile(file, fmt=fmt, dx=dx, decimal=decimal, columns=columns))
     if not profile.dropouts.usable:
         a, b = profile.dropouts.refused_gaps_mm[0]
         raise InputError(

@@ -73,6 +73,7 @@ def read_profile(
     fmt: str | None = None,
     dx: Length | str | None = None,
     decimal: str = ".",
+    columns: str | None = None,
 ) -> Profile:
     """Read a measured profile file.
 
@@ -87,6 +88,9 @@ def read_profile(
         or text such as ``"0.5um"``.
     decimal:
         ``"."`` (default) or ``","`` for text files written with decimal commas.
+    columns:
+        Text files only: which columns hold x and z, e.g. ``"x=1[mm],z=3[um]"`` (see
+        :mod:`speccheck.readers._columns`); default by the header's names.
 
     Returns
     -------
@@ -120,13 +124,17 @@ def read_profile(
     if dx is not None and not dx.um > 0:
         raise InputError(f"--dx must be positive, got {dx}", path=name)
 
+    if columns is not None and fmt in ("x3p", "sdf"):
+        raise InputError(f"--columns applies to text files, not {fmt}", path=name)
     data, sha256 = read_source_bytes(path)
     if fmt == "x3p":
         return parse_x3p(data, path=name, sha256=sha256)
     text = decode_text(data, path=name)
     if fmt == "sdf":
         return parse_sdf(text, path=name, sha256=sha256)
-    return parse_delimited(text, path=name, sha256=sha256, fmt=fmt, dx=dx, decimal=decimal)
+    return parse_delimited(
+        text, path=name, sha256=sha256, fmt=fmt, dx=dx, decimal=decimal, columns=columns
+    )
 
 
 def profile_summary(profile: Profile) -> dict[str, Any]:

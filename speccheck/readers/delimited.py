@@ -10,8 +10,11 @@ Layout::
     0.0005,0.1301
     0.0010,                                (empty cell or nan: invalid point)
 
-The field separator is taken from the header: tab, then ``;``, then ``,``, else whitespace. A
-file with only a ``z`` column needs the spacing from the caller (``dx``). Decimal commas are
+The field separator is taken from the header: tab, then ``;``, then ``,``, else whitespace. Which
+columns hold x and z is found by their names (``x``/``position``/``distance``,
+``z``/``height``/``profile``) or given by ``--columns``; other columns are kept out
+(:mod:`speccheck.readers._columns`). A file with no x column needs the spacing from the caller
+(``dx``). Decimal commas are
 refused unless ``decimal=","``, and then the separator must be ``;``, tab or whitespace.
 Units: ``um`` / ``µm``, ``nm``, ``mm``, ``m``, ``in``, ``uin``.
 """
@@ -27,17 +30,19 @@ import numpy as np
 from speccheck._atomic import atomic_write_text
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
+from speccheck.readers._columns import (
+    headerless_layout,
+    layout_from_header,
+    parse_columns_option,
+)
 from speccheck.readers._common import SPACING_TOLERANCE, profile_from_heights, spacing_from_x
-from speccheck.units import UM_PER_UNIT, Length, canonical_unit
+from speccheck.units import Length
 
 __all__ = ["parse_delimited", "write_csv"]
 
-_COLUMN = re.compile(r"^\s*([A-Za-z][\w ]*?)\s*(?:[\[(]\s*([^\])]*?)\s*[\])])?\s*$")
 _WS_HEADER_TOKEN = re.compile(r"[^\s\[(]+(?:\s*[\[(][^\])]*[\])])?")
 _DECIMAL_COMMA = re.compile(r"^\s*[-+]?\d*,\d+(?:[eE][-+]?\d+)?\s*$")
 _META_KEYS = ("instrument", "date", "comment")
-_NAMES = {"x": "x", "z": "z", "height": "z"}
-_DEFAULT_UNIT = {"x": "mm", "z": "um"}
 
 
 def _separator(header: str) -> str | None:
@@ -61,47 +66,6 @@ def _is_number(token: str) -> bool:
     return True
 
 
-def _parse_header(header: str, sep: str | None, *, path: str, line: int) -> list[tuple[str, float]]:
-    """Column list ``[(name, um_per_unit), ...]`` from the header line."""
-    cells = _split_header(header, sep)
-    if cells and _is_number(cells[0].strip()):
-        raise InputError(
-            "no header line; name the columns and their units first, e.g. 'x [mm],z [um]'",
-            path=path,
-            where=f"line {line}",
-        )
-    columns: list[tuple[str, float]] = []
-    for k, cell in enumerate(cells, start=1):
-        where = f"line {line}, column {k}"
-        m = _COLUMN.match(cell)
-        name = _NAMES.get(m.group(1).strip().lower()) if m else None
-        if m is None or name is None:
-            raise InputError(
-                f"unknown column {cell.strip()!r}; expected 'x [unit]' and 'z [unit]'",
-                path=path,
-                where=where,
-            )
-        if any(name == c for c, _ in columns):
-            raise InputError(f"column {name!r} appears twice", path=path, where=where)
-        unit = m.group(2)
-        if not unit:
-            raise InputError(
-                f"column {name!r} has no unit; write e.g. '{name} [{_DEFAULT_UNIT[name]}]'",
-                path=path,
-                where=where,
-            )
-        c = canonical_unit(unit)
-        if c is None:
-            known = ", ".join(["µm", *UM_PER_UNIT])
-            raise InputError(
-                f"unknown length unit {unit!r} (known: {known})", path=path, where=where
-            )
-        columns.append((name, UM_PER_UNIT[c]))
-    if not any(name == "z" for name, _ in columns):
-        raise InputError("no 'z [unit]' column in the header", path=path, where=f"line {line}")
-    return columns
-
-
 def parse_delimited(
     text: str,
     *,
@@ -110,8 +74,13 @@ def parse_delimited(
     fmt: str,
     dx: Length | None = None,
     decimal: str = ".",
+    columns: str | None = None,
 ) -> Profile:
-    """Parse delimited text into a Profile; every error names the line (and column)."""
+    """Parse delimited text into a Profile; every error names the line (and column).
+
+    ``columns`` is the ``--columns`` text (:mod:`speccheck.readers._columns`); without it x and
+    z are found by their header names and other columns are kept out.
+    """
     all_lines = text.splitlines()
     meta: dict[str, str] = {}
     header: str | None = None
@@ -132,14 +101,21 @@ def parse_delimited(
             path=path,
             where=f"line {header_line}",
         )
-    columns = _parse_header(header, sep, path=path, line=header_line)
-    ncol = len(columns)
-    x_col = next((k for k, (n, _) in enumerate(columns) if n == "x"), None)
+    chosen = None if columns is None else parse_columns_option(columns, path=path)
+    cells = _split_header(header, sep)
+    if cells and _is_number(cells[0].strip()):  # no header: the first line is data
+        layout = headerless_layout(len(cells), chosen, path=path, line=header_line)
+        header_line -= 1
+    else:
+        layout = layout_from_header(cells, chosen, path=path, line=header_line)
+    ncol = layout.ncol
+    x_col = layout.x[0] if layout.x is not None else None
+    used = [layout.z[0]] + ([x_col] if x_col is not None else [])
 
     body = all_lines[header_line:]
     while body and not body[-1].strip():
         body.pop()
-    values = _fast_values(body, ncol, sep, decimal)
+    values = _fast_values(body, ncol, used, sep, decimal)
     if values is not None:
         row_lines = list(range(header_line + 1, header_line + 1 + len(body)))
     else:  # comments, blank lines or a bad cell: go line by line and say where
@@ -154,12 +130,12 @@ def parse_delimited(
                 row_lines.append(number)
         if not rows:
             raise InputError("header but no data rows", path=path, where=f"line {header_line}")
-        values = _checked_values(rows, row_lines, ncol, x_col, sep, decimal, path)
+        values = _checked_values(rows, row_lines, ncol, used, x_col, sep, decimal, path)
     lines = np.asarray(row_lines)
-    z_col = next(k for k, (n, _) in enumerate(columns) if n == "z")
+    z_col = layout.z[0]
     with np.errstate(over="ignore", invalid="ignore"):  # overflow becomes inf, refused below
-        z_um = values[:, z_col] * columns[z_col][1]
-        x_um = values[:, x_col] * columns[x_col][1] if x_col is not None else None
+        z_um = values[:, 0] * layout.z[1]
+        x_um = values[:, 1] * layout.x[1] if layout.x is not None else None
     if x_um is not None:
         bad = np.flatnonzero(~np.isfinite(x_um))
         if bad.size:
@@ -200,8 +176,10 @@ def _comment(line: str, meta: dict[str, str]) -> None:
         meta[name] = f"{meta[name]}; {value.strip()}" if name in meta else value.strip()
 
 
-def _fast_values(body: list[str], ncol: int, sep: str | None, decimal: str) -> np.ndarray | None:
-    """All cells as floats via numpy's C parser when the block is plain, else None.
+def _fast_values(
+    body: list[str], ncol: int, used: list[int], sep: str | None, decimal: str
+) -> np.ndarray | None:
+    """The ``used`` columns as floats via numpy's C parser when the block is plain, else None.
 
     None sends the caller to the line-by-line path, which finds and names the first problem.
     """
@@ -214,26 +192,39 @@ def _fast_values(body: list[str], ncol: int, sep: str | None, decimal: str) -> n
         block = block.replace(",", ".")
     elif sep != "," and "," in block:
         return None
+    extra = ncol > len(used)
+    if extra:  # columns kept out are not parsed, but every row must have the header's fields
+        counts = {len(line.split(sep)) if sep is not None else len(line.split()) for line in body}
+        if counts != {ncol}:
+            return None
     try:
-        values = np.loadtxt(io.StringIO(block), delimiter=sep, comments=None, ndmin=2)
+        values = np.loadtxt(
+            io.StringIO(block),
+            delimiter=sep,
+            comments=None,
+            ndmin=2,
+            usecols=used if extra else None,
+        )
     except ValueError:
         return None
-    if values.shape != (len(body), ncol):
+    if values.shape != (len(body), len(used) if extra else ncol):
         return None
-    return values
+    return values if extra else values[:, used]
 
 
 def _checked_values(
     rows: list[list[str]],
     row_lines: list[int],
     ncol: int,
+    used: list[int],
     x_col: int | None,
     sep: str | None,
     decimal: str,
     path: str,
 ) -> np.ndarray:
-    """Cell by cell, raising InputError at the first bad cell; empty z cells become NaN."""
-    values = np.empty((len(rows), ncol), dtype=np.float64)
+    """The ``used`` columns cell by cell, raising InputError at the first bad cell; empty z
+    cells become NaN. Columns kept out are not read."""
+    values = np.empty((len(rows), len(used)), dtype=np.float64)
     for i, cells in enumerate(rows):
         if len(cells) != ncol:
             hint = ""
@@ -244,14 +235,15 @@ def _checked_values(
                 path=path,
                 where=f"line {row_lines[i]}",
             )
-        for k, cell in enumerate(cells):
+        for j, k in enumerate(used):
+            cell = cells[k]
             token = cell.strip()
             if not token:
                 if k == x_col:
                     raise InputError(
                         "x is missing", path=path, where=f"line {row_lines[i]}, column {k + 1}"
                     )
-                values[i, k] = np.nan
+                values[i, j] = np.nan
                 continue
             if decimal == ",":
                 token = token.replace(",", ".")
@@ -264,7 +256,7 @@ def _checked_values(
             try:
                 if "_" in token:
                     raise ValueError(token)
-                values[i, k] = float(token)
+                values[i, j] = float(token)
             except ValueError:
                 raise InputError(
                     f"not a number: {cell.strip()!r}",
