@@ -89,7 +89,7 @@ def test_explain_sentence(tmp_path):
         "= evaluation length 4 mm — ISO 4288:1996 4.4 default, mean of 5 section values "
         "(ISO 4287:1997) — convention iso1302 or asme, at least 5.6 mm (4 mm evaluated, 0.8 mm "
         "run-in and run-out each) — speccheck, λs 2.5 µm — ISO 3274:1996 Table 1, "
-        "Gaussian filter (ISO 16610-21) — ISO 1302 default, least-squares line removed first — "
+        "Gaussian filter (ISO 16610-21) — ASME B46.1 default, least-squares line removed first — "
         "speccheck default, decision rule: guarded rejection (ISO 14253-1): exceeding only if "
         "outside the limit by more than U; U = 0.05 µm (k = 2) — uncertainty in the spec"
     )
@@ -139,3 +139,29 @@ def test_schema_rejects_what_the_loader_rejects(capsys):
         "units": "x",
     }
     assert not jsonschema.Draft202012Validator(schema).is_valid(bad)
+
+
+def test_iso21920_cites_its_own_rules_standard(tmp_path, capsys):
+    """ISO 21920-3:2021 replaced ISO 4288:1996 for profile specification operators, rules of
+    comparison included (from memory); an ISO 21920 spec must not cite ISO 4288 for them."""
+    import numpy as np
+
+    from speccheck.profile import Profile
+    from speccheck.readers import write_csv
+
+    spec = tmp_path / "s.yaml"
+    spec.write_text(
+        "spec_version: 1\nconvention: iso21920\n"
+        "part: {number: KFP-2041, revision: C, surface: seal seat}\n"
+        'requirements:\n  - "Ra 16% 0.8"\n',
+        encoding="utf-8",
+    )
+    prof = tmp_path / "p.csv"
+    x = np.arange(11200) * 0.5
+    write_csv(prof, Profile(0.9 * np.sin(2 * np.pi * x / 80.0), 0.5))
+    assert main(["explain", str(spec)]) == 0
+    out = capsys.readouterr().out
+    assert "step procedure (ISO 21920-3)" in out and "ISO 21920-3 default" in out
+    assert main(["check", str(spec), str(prof)]) == 3
+    out = capsys.readouterr().out
+    assert "16 % rule (ISO 21920-3, step procedure)" in out and "ISO 4288" not in out

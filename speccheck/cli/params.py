@@ -14,8 +14,8 @@ import click
 
 from speccheck.cli.options import (
     InputPath,
-    cutoff_option,
     columns_option,
+    cutoff_option,
     decimal_option,
     dx_option,
     format_option,

@@ -50,6 +50,7 @@ from speccheck.evaluation.result import (
     Verdict,
 )
 from speccheck.evaluation.rules import RuleOutcome, Sampling, apply_rule, combine_limits
+from speccheck.spec.requirement import rule_words, rules_standard
 
 if TYPE_CHECKING:
     from speccheck.parameters.compute import InsufficientData, ParameterSet
@@ -372,16 +373,8 @@ def _requirement_result(
         hinges = low.verdict != high.verdict
 
     late = _mark_after_decision(records, outcome.decided_at)
-    if req.rule == "16%":
-        rule_text = (
-            "16 % rule (ISO 4288 5.2, step procedure)"
-            if spec.sampling == "sequential"
-            else "16 % rule (ISO 4288 5.2, fixed sample)"
-        )
-    elif spec.convention == "asme":
-        rule_text = "maximum (ASME Y14.36: a single value is a maximum)"
-    else:
-        rule_text = "max-rule (ISO 4288 5.3)"
+    rule_text = rule_words(spec.convention, req.rule, spec.sampling)
+    ref = rules_standard(spec.convention)
     side_texts = []
     for (side, _lim), o in zip(_sides(req), per_side, strict=True):
         step = o.step
@@ -414,7 +407,7 @@ def _requirement_result(
                 parts.append(f"measurement {i + 1}: {unk.note}; {unk.action}")
             if outcome.further is not None:
                 more = _further_text(outcome.further, per_section, req.sections)
-                parts.append(f"or measure {more} {_where_text(req)} (ISO 4288)")
+                parts.append(f"or measure {more} {_where_text(req)} ({ref})")
         else:
             reason = "more-measurements"
             by_measurement = {}
@@ -425,7 +418,7 @@ def _requirement_result(
                 reason = reason if reason != "more-measurements" else unk.status
                 parts.append(f"measurement {i + 1}: {unk.note}; {unk.action}")
             more = _further_text(outcome.further or 1, per_section, req.sections)
-            parts.append(f"measure {more} {_where_text(req)} (ISO 4288)")
+            parts.append(f"measure {more} {_where_text(req)} ({ref})")
         next_step = "; ".join(parts)
     elif hinges:
         reason = "uncertainty-range"

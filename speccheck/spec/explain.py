@@ -29,16 +29,21 @@ _CONVENTION_WORDS = {
 }
 
 
-_SAMPLING_WORDS = {
-    "sequential": (
-        "the step procedure (ISO 4288 5.2) — decided at the first decisive step; values "
-        "measured after it are listed but cannot reverse it"
-    ),
-    "fixed": (
-        "a fixed sample (ISO 4288 5.2) — at most 16 % of all values may exceed; at least 12 "
+def _sampling_words(sampling: str, convention: str) -> str:
+    """How the 16 % rule takes its values, citing the convention's rules standard."""
+    from speccheck.spec.requirement import rules_standard
+
+    ref = rules_standard(convention)
+    ref += " 5.2" if ref == "ISO 4288" else ""
+    if sampling == "sequential":
+        return (
+            f"the step procedure ({ref}) — decided at the first decisive step; values "
+            "measured after it are listed but cannot reverse it"
+        )
+    return (
+        f"a fixed sample ({ref}) — at most 16 % of all values may exceed; at least 12 "
         "values, chosen in advance"
-    ),
-}
+    )
 
 
 def _num(value: float, unit: str) -> str:
@@ -211,7 +216,7 @@ def explain_spec(spec: LoadedSpec) -> str:
     )
     lines.append(f"Measured values: {per}")
     if any(r.rule == "16%" for r in spec.requirements):
-        lines.append(f"16 % rule taken as: {_SAMPLING_WORDS[spec.sampling]}")
+        lines.append(f"16 % rule taken as: {_sampling_words(spec.sampling, spec.convention)}")
     iso = (
         "reported beside the verdict"
         if spec.isolated_features == "report"

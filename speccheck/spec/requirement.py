@@ -15,11 +15,33 @@ from speccheck.errors import SpeccheckError
 if TYPE_CHECKING:
     from speccheck.parameters.conditions import Conditions
 
-__all__ = ["Requirement", "LoadedSpec", "Convention", "DecisionRule", "Rule"]
+__all__ = ["Requirement", "LoadedSpec", "Convention", "DecisionRule", "Rule", "rules_standard"]
 
 Convention = Literal["iso1302", "iso21920", "asme"]
 DecisionRule = Literal["simple", "guarded-acceptance", "guarded-rejection"]
 Rule = Literal["16%", "max"]
+
+
+def rules_standard(convention: str) -> str:
+    """The standard the 16 % rule and the max-rule are cited from under ``convention``.
+
+    ISO 21920-3:2021 replaced ISO 4288:1996 and carries both rules (from memory; its clause
+    numbers are not cited here). ISO 1302 and ASME drawings that state the 16 % rule refer to
+    ISO 4288.
+    """
+    return "ISO 21920-3" if convention == "iso21920" else "ISO 4288"
+
+
+def rule_words(convention: str, rule: str, sampling: str) -> str:
+    """The rule with its source, e.g. "16 % rule (ISO 4288 5.2, step procedure)"."""
+    ref = rules_standard(convention)
+    if rule == "16%":
+        clause = " 5.2" if ref == "ISO 4288" else ""
+        how = "step procedure" if sampling == "sequential" else "fixed sample"
+        return f"16 % rule ({ref}{clause}, {how})"
+    if convention == "asme":
+        return "maximum (ASME Y14.36: a single value is a maximum)"
+    return f"max-rule ({ref}{' 5.3' if ref == 'ISO 4288' else ''})"
 
 
 @dataclass(frozen=True)

@@ -472,7 +472,7 @@ class _Resolver:
         elif m.filter is not None:
             filt, filter_source = m.filter, "measurement.filter in the spec"
         else:
-            filt, filter_source = "gaussian", "ISO 1302 default"
+            filt, filter_source = "gaussian", _DEFAULT_FILTER_SOURCE[conv]
         if form_given is not None:
             form, form_source = form_given, "form in the requirement"
         elif m.form is not None:
@@ -577,6 +577,15 @@ class _Resolver:
         except SpeccheckError as exc:
             reason = exc.message.split(";")[0]
             raise self.err(kp, f"{reason}: {how}") from None
+
+
+# Where the default Gaussian filter comes from under each convention (from memory for ISO
+# 21920-3 and ASME B46.1, both of which name the ISO 16610-21 Gaussian filter as the default).
+_DEFAULT_FILTER_SOURCE = {
+    "iso1302": "ISO 1302 default",
+    "iso21920": "ISO 21920-3 default",
+    "asme": "ASME B46.1 default",
+}
 
 
 def _fmt(value: float, unit: str) -> str:
