@@ -12,8 +12,16 @@ from speccheck.cli.main import COMMANDS, main
 
 
 def test_version(capsys):
+    """--version names the numeric and signing libraries, with the versions importlib.metadata
+    (the standard library's view of what is installed) reports for them."""
+    from importlib import metadata
+
     assert main(["--version"]) == 0
-    assert capsys.readouterr().out.strip() == f"speccheck, version {__version__}"
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0] == f"speccheck {__version__}"
+    assert f"numpy {metadata.version('numpy')}" in lines
+    assert f"pyHanko {metadata.version('pyHanko')}" in lines
+    assert f"Python {sys.version.split()[0]}" in lines
 
 
 def test_help_lists_every_command(capsys):

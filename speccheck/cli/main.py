@@ -69,11 +69,43 @@ class LazyGroup(click.Group):
             formatter.write_dl(rows)
 
 
+#: Libraries whose versions decide the numbers and the records; ``--version`` names them so a
+#: result can be reproduced with the same stack.
+VERSIONED_LIBRARIES = ("numpy", "scipy", "pydantic", "PyYAML", "weasyprint", "pyHanko")
+
+
+def _version_message() -> str:
+    """``speccheck X`` and the installed versions of :data:`VERSIONED_LIBRARIES` (metadata only,
+    nothing imported)."""
+    from importlib import metadata
+
+    lines = [f"speccheck {__version__}", f"Python {sys.version.split()[0]}"]
+    for name in VERSIONED_LIBRARIES:
+        try:
+            lines.append(f"{name} {metadata.version(name)}")
+        except metadata.PackageNotFoundError:
+            lines.append(f"{name} not installed")
+    return "\n".join(lines)
+
+
+def _print_version(ctx: click.Context, _param: click.Parameter, value: bool) -> None:
+    if value and not ctx.resilient_parsing:
+        click.echo(_version_message())
+        ctx.exit(0)
+
+
 @click.group(
     cls=LazyGroup,
     context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100},
 )
-@click.version_option(__version__, "--version", prog_name="speccheck")
+@click.option(
+    "--version",
+    is_flag=True,
+    expose_value=False,
+    is_eager=True,
+    callback=_print_version,
+    help="Show the version of speccheck and of the numeric and signing libraries, and exit.",
+)
 def cli() -> None:
     """Decide whether measured surface profiles meet a surface-finish specification.
 
