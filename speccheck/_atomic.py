@@ -321,9 +321,15 @@ def read_bounded(
     except OSError as exc:
         raise os_error(exc, path=text, doing="cannot read") from None
     try:
-        _refuse_special(os.fstat(fd), text, error)
+        opened = os.fstat(fd)
+        _refuse_special(opened, text, error)
         with os.fdopen(fd, "rb", closefd=False) as f:
-            data = f.read(limit + 1)
+            # Ask for the size the file has (+1 to see growth), never for the whole limit: a
+            # read of n bytes reserves n bytes of memory before anything arrives.
+            size = min(opened.st_size, limit)
+            data = f.read(size + 1)
+            if len(data) > size:  # grew after the stat: read on, still within the limit
+                data += f.read(limit + 1 - len(data))
     except OSError as exc:
         raise os_error(exc, path=text, doing="cannot read") from None
     finally:

@@ -129,11 +129,10 @@ def read_profile(
     data, sha256 = read_source_bytes(path)
     if fmt == "x3p":
         return parse_x3p(data, path=name, sha256=sha256)
-    text = decode_text(data, path=name)
     if fmt == "sdf":
-        return parse_sdf(text, path=name, sha256=sha256)
+        return parse_sdf(decode_text(data, path=name), path=name, sha256=sha256)
     return parse_delimited(
-        text, path=name, sha256=sha256, fmt=fmt, dx=dx, decimal=decimal, columns=columns
+        data, path=name, sha256=sha256, fmt=fmt, dx=dx, decimal=decimal, columns=columns
     )
 
 

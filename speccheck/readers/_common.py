@@ -17,6 +17,7 @@ Locate = Callable[[int], str]
 
 __all__ = [
     "MIN_POINTS",
+    "MAX_POINTS",
     "SPACING_TOLERANCE",
     "MAX_TEXT_BYTES",
     "MAX_ABS_HEIGHT_UM",
@@ -28,6 +29,8 @@ __all__ = [
     "check_scale",
     "check_spacing",
     "decode_text",
+    "decode_line",
+    "check_text_bytes",
     "profile_from_heights",
     "spacing_from_x",
 ]
@@ -41,7 +44,12 @@ MIN_POINTS = 16
 # with enough digits differ from it only by rounding.
 SPACING_TOLERANCE = 0.01
 
-# Text files larger than this are refused before being read into memory (1 GiB).
+# Budget. A profile has at most MAX_POINTS points (2·10^7: a 200 mm trace at 0.01 µm, beyond
+# any stylus or optical profiler's single trace; common practice, no source). Text files larger
+# than MAX_TEXT_BYTES (1 GiB: 2·10^7 lines of x and z at full float precision) are refused
+# before being read. The budget for memory is stated in the README and measured by
+# bench/memory_bench.py.
+MAX_POINTS = 20_000_000
 MAX_TEXT_BYTES = 1 << 30
 
 # Physical plausibility. A roughness or waviness profile never spans more than ±10 mm of height
@@ -66,6 +74,31 @@ def read_source_bytes(path: str | Path, *, limit: int = MAX_TEXT_BYTES) -> tuple
     """
     data = read_bounded(path, limit=limit, role="profile", error=InputError)
     return data, hashlib.sha256(data).hexdigest()
+
+
+def check_text_bytes(data: bytes, *, path: str) -> None:
+    """Refuse an empty text file, or one holding a NUL byte (binary data), naming the line."""
+    if not data or data.isspace():
+        raise InputError("file is empty", path=path)
+    nul = data.find(b"\x00")
+    if nul >= 0:
+        line = data.count(b"\n", 0, nul) + 1
+        raise InputError("binary data (NUL byte) in a text file", path=path, where=f"line {line}")
+
+
+def decode_line(raw: bytes, *, path: str, line: int, first: bool = False) -> str:
+    """One line of a text file as text: UTF-8 (a BOM on the first line dropped), or Latin-1
+    when its only non-ASCII byte is the micro sign 0xB5; else InputError naming the line."""
+    try:
+        return raw.decode("utf-8-sig" if first else "utf-8")
+    except UnicodeDecodeError as exc:
+        if {b for b in raw if b >= 0x80} == {0xB5}:
+            return raw.decode("latin-1")
+        raise InputError(
+            f"not UTF-8 text (byte 0x{raw[exc.start]:02X}); is this a binary file?",
+            path=path,
+            where=f"line {line}",
+        ) from exc
 
 
 def decode_text(data: bytes, *, path: str) -> str:
@@ -96,7 +129,7 @@ def decode_text(data: bytes, *, path: str) -> str:
     return text
 
 
-def spacing_from_x(x_um: np.ndarray, lines: np.ndarray, *, path: str) -> float:
+def spacing_from_x(x_um: np.ndarray, line_of: Callable[[int], int], *, path: str) -> float:
     """Mean spacing of strictly increasing, uniformly spaced positions ``x_um``.
 
     Raises InputError naming the line of the first point that repeats, goes backwards, or is
@@ -112,7 +145,7 @@ def spacing_from_x(x_um: np.ndarray, lines: np.ndarray, *, path: str) -> float:
             f"x {what} (x = {x_um[i] / 1e3:.6g} mm after {x_um[i - 1] / 1e3:.6g} mm); "
             "x must increase at every point",
             path=path,
-            where=f"line {int(lines[i])}",
+            where=f"line {line_of(i)}",
         )
     mean = (x_um[-1] - x_um[0]) / (x_um.size - 1)
     off = np.flatnonzero(np.abs(steps - mean) > SPACING_TOLERANCE * mean)
@@ -122,7 +155,7 @@ def spacing_from_x(x_um: np.ndarray, lines: np.ndarray, *, path: str) -> float:
             f"x spacing {steps[i - 1]:.6g} µm differs from the mean spacing {mean:.6g} µm by more "
             f"than {SPACING_TOLERANCE:.0%}; speccheck needs uniformly sampled profiles",
             path=path,
-            where=f"line {int(lines[i])}",
+            where=f"line {line_of(i)}",
         )
     return float(f"{mean:.10g}")
 
@@ -205,6 +238,10 @@ def profile_from_heights(
     z = np.asarray(z_um, dtype=np.float64)
     if z.size == 0:
         raise InputError("no data points", path=path, where=where)
+    if z.size > MAX_POINTS:
+        raise InputError(
+            f"{z.size} points; a profile has at most {MAX_POINTS}", path=path, where=where
+        )
     if z.size < MIN_POINTS:
         raise InputError(
             f"only {z.size} points; a profile needs at least {MIN_POINTS}", path=path, where=where

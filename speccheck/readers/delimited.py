@@ -22,6 +22,7 @@ Units: ``um`` / ``µm``, ``nm``, ``mm``, ``m``, ``in``, ``uin``.
 from __future__ import annotations
 
 import io
+import math
 import re
 from pathlib import Path
 
@@ -35,7 +36,14 @@ from speccheck.readers._columns import (
     layout_from_header,
     parse_columns_option,
 )
-from speccheck.readers._common import SPACING_TOLERANCE, profile_from_heights, spacing_from_x
+from speccheck.readers._common import (
+    MAX_POINTS,
+    SPACING_TOLERANCE,
+    check_text_bytes,
+    decode_line,
+    profile_from_heights,
+    spacing_from_x,
+)
 from speccheck.units import Length
 
 __all__ = ["parse_delimited", "write_csv"]
@@ -67,7 +75,7 @@ def _is_number(token: str) -> bool:
 
 
 def parse_delimited(
-    text: str,
+    data: bytes,
     *,
     path: str,
     sha256: str,
@@ -76,24 +84,17 @@ def parse_delimited(
     decimal: str = ".",
     columns: str | None = None,
 ) -> Profile:
-    """Parse delimited text into a Profile; every error names the line (and column).
+    """Parse delimited text (the file's bytes) into a Profile; every error names the line.
 
     ``columns`` is the ``--columns`` text (:mod:`speccheck.readers._columns`); without it x and
-    z are found by their header names and other columns are kept out.
+    z are found by their header names and other columns are kept out. Memory stays near the
+    file's size plus 16 bytes per value: comment lines and the header are decoded one by one,
+    and a plain data block goes from the bytes to numpy's C parser without a copy of the text;
+    any other block is parsed line by line into one array.
     """
-    all_lines = text.splitlines()
+    check_text_bytes(data, path=path)
     meta: dict[str, str] = {}
-    header: str | None = None
-    header_line = 0
-    for number, raw in enumerate(all_lines, start=1):
-        line = raw.strip()
-        if line.startswith("#"):
-            _comment(line, meta)
-        elif line:
-            header, header_line = line, number
-            break
-    if header is None:
-        raise InputError("no header and no data (only comment lines)", path=path)
+    header, header_line, body_start = _header(data, meta, path)
     sep = _separator(header)
     if decimal == "," and sep == ",":
         raise InputError(
@@ -106,66 +107,102 @@ def parse_delimited(
     if cells and _is_number(cells[0].strip()):  # no header: the first line is data
         layout = headerless_layout(len(cells), chosen, path=path, line=header_line)
         header_line -= 1
+        body_start = _line_start(data, body_start)
     else:
         layout = layout_from_header(cells, chosen, path=path, line=header_line)
     ncol = layout.ncol
     x_col = layout.x[0] if layout.x is not None else None
     used = [layout.z[0]] + ([x_col] if x_col is not None else [])
-
-    body = all_lines[header_line:]
-    while body and not body[-1].strip():
-        body.pop()
-    values = _fast_values(body, ncol, used, sep, decimal)
+    body_lines = data.count(b"\n", body_start) + 1
+    if body_lines > MAX_POINTS + 1:  # one spare line: a final line break ends the last row
+        raise InputError(
+            f"{body_lines} lines of data; a profile has at most {MAX_POINTS} points",
+            path=path,
+            where=f"line {max(header_line, 1)}",
+        )
+    values = _fast_values(data, body_start, header_line, ncol, used, sep, decimal)
     if values is not None:
-        row_lines = list(range(header_line + 1, header_line + 1 + len(body)))
+        first = header_line + 1
+
+        def line_of(i: int) -> int:
+            return first + i
     else:  # comments, blank lines or a bad cell: go line by line and say where
-        rows: list[list[str]] = []
-        row_lines = []
-        for number, raw in enumerate(body, start=header_line + 1):
-            line = raw.strip()
-            if line.startswith("#"):
-                _comment(line, meta)
-            elif line:
-                rows.append(line.split(sep) if sep is not None else line.split())
-                row_lines.append(number)
-        if not rows:
-            raise InputError("header but no data rows", path=path, where=f"line {header_line}")
-        values = _checked_values(rows, row_lines, ncol, used, x_col, sep, decimal, path)
-    lines = np.asarray(row_lines)
+        values, lines = _checked_values(
+            data, body_start, header_line, ncol, used, x_col, sep, decimal, path, meta
+        )
+
+        def line_of(i: int) -> int:
+            return int(lines[i])
+
     z_col = layout.z[0]
     with np.errstate(over="ignore", invalid="ignore"):  # overflow becomes inf, refused below
         z_um = values[:, 0] * layout.z[1]
         x_um = values[:, 1] * layout.x[1] if layout.x is not None else None
-    if x_um is not None:
-        bad = np.flatnonzero(~np.isfinite(x_um))
-        if bad.size:
-            raise InputError("x is not a finite number", path=path, where=f"line {lines[bad[0]]}")
-        if x_um.size < 2:
-            dx_um = np.nan
-        else:
-            dx_um = spacing_from_x(x_um, lines, path=path)
-            if dx is not None and abs(dx.um - dx_um) > SPACING_TOLERANCE * dx_um:
-                raise InputError(
-                    f"the given spacing {dx} disagrees with the x column's spacing {dx_um:g} µm",
-                    path=path,
-                    where=f"line {header_line}",
-                )
-    else:
+    del values
+    dx_um = _spacing(x_um, dx, line_of, header_line, path)
+    del x_um
+    source = SourceInfo(path=path, sha256=sha256, format=fmt, **meta)
+
+    def locate(i: int) -> str:
+        return f"line {line_of(i)}, column {z_col + 1}"
+
+    return profile_from_heights(
+        z_um, dx_um, source=source, where=f"line {header_line}", locate=locate
+    )
+
+
+def _spacing(x_um, dx: Length | None, line_of, header_line: int, path: str) -> float:
+    """Sampling spacing in µm from the x column, checked against ``dx``; or ``dx`` alone."""
+    if x_um is None:
         if dx is None:
             raise InputError(
                 "the file has no x column; give the sampling spacing, e.g. --dx 0.5um",
                 path=path,
                 where=f"line {header_line}",
             )
-        dx_um = dx.um
-    source = SourceInfo(path=path, sha256=sha256, format=fmt, **meta)
+        return dx.um
+    bad = np.flatnonzero(~np.isfinite(x_um))
+    if bad.size:
+        raise InputError(
+            "x is not a finite number", path=path, where=f"line {line_of(int(bad[0]))}"
+        )
+    if x_um.size < 2:
+        return math.nan
+    dx_um = spacing_from_x(x_um, line_of, path=path)
+    if dx is not None and abs(dx.um - dx_um) > SPACING_TOLERANCE * dx_um:
+        raise InputError(
+            f"the given spacing {dx} disagrees with the x column's spacing {dx_um:g} µm",
+            path=path,
+            where=f"line {header_line}",
+        )
+    return dx_um
 
-    def locate(i: int) -> str:
-        return f"line {int(lines[i])}, column {z_col + 1}"
 
-    return profile_from_heights(
-        z_um, dx_um, source=source, where=f"line {header_line}", locate=locate
-    )
+def _lines(data: bytes, start: int):
+    """(line number offset, start, end) of each line from byte ``start``; end excludes EOL."""
+    pos, n = start, len(data)
+    while pos < n:
+        end = data.find(b"\n", pos)
+        if end < 0:
+            end = n
+        yield pos, end
+        pos = end + 1
+
+
+def _line_start(data: bytes, after: int) -> int:
+    """Byte offset where the line ending just before ``after`` starts."""
+    return data.rfind(b"\n", 0, max(after - 1, 0)) + 1
+
+
+def _header(data: bytes, meta: dict[str, str], path: str) -> tuple[str, int, int]:
+    """(header text, its line number, byte offset of the next line); comments go to ``meta``."""
+    for number, (a, b) in enumerate(_lines(data, 0), start=1):
+        line = decode_line(data[a:b], path=path, line=number, first=number == 1).strip()
+        if line.startswith("#"):
+            _comment(line, meta)
+        elif line:
+            return line, number, b + 1
+    raise InputError("no header and no data (only comment lines)", path=path)
 
 
 def _comment(line: str, meta: dict[str, str]) -> None:
@@ -176,94 +213,143 @@ def _comment(line: str, meta: dict[str, str]) -> None:
         meta[name] = f"{meta[name]}; {value.strip()}" if name in meta else value.strip()
 
 
-def _fast_values(
-    body: list[str], ncol: int, used: list[int], sep: str | None, decimal: str
-) -> np.ndarray | None:
-    """The ``used`` columns as floats via numpy's C parser when the block is plain, else None.
+_NOT_PLAIN = re.compile(rb"[#_\x80-\xff]")
 
-    None sends the caller to the line-by-line path, which finds and names the first problem.
+
+def _fast_values(
+    data: bytes,
+    start: int,
+    skip: int,
+    ncol: int,
+    used: list[int],
+    sep: str | None,
+    decimal: str,
+) -> np.ndarray | None:
+    """The ``used`` columns from byte ``start`` via numpy's C parser when the block is plain.
+
+    Plain: no comment, no ``_`` (float syntax '1_000' that we refuse), ASCII only, no blank line
+    inside, every row with ``ncol`` fields. None sends the caller to the line-by-line path,
+    which finds and names the first problem. ``skip`` is the number of lines before ``start``.
     """
-    if not body:
-        return None
-    block = "\n".join(body)
-    if "#" in block or "_" in block:  # comments; float syntax '1_000' that we refuse
+    end = len(data)
+    while end > start and data[end - 1] in b" \t\r\n":
+        end -= 1
+    if end <= start or _NOT_PLAIN.search(data, start) is not None:
         return None
     if decimal == ",":
-        block = block.replace(",", ".")
-    elif sep != "," and "," in block:
+        block = io.BytesIO(data[start:end].replace(b",", b"."))
+        skip = 0
+    elif sep != "," and data.find(b",", start) >= 0:
         return None
-    extra = ncol > len(used)
-    if extra:  # columns kept out are not parsed, but every row must have the header's fields
-        counts = {len(line.split(sep)) if sep is not None else len(line.split()) for line in body}
-        if counts != {ncol}:
-            return None
-    try:
+    else:
+        block = io.BytesIO(data)
+    rows = data.count(b"\n", start, end) + 1
+    try:  # numpy refuses a row whose field count differs, also with usecols
         values = np.loadtxt(
-            io.StringIO(block),
+            block,
             delimiter=sep,
             comments=None,
             ndmin=2,
-            usecols=used if extra else None,
+            skiprows=skip,
+            max_rows=rows,
+            usecols=used,
+            encoding="ascii",
         )
     except ValueError:
         return None
-    if values.shape != (len(body), len(used) if extra else ncol):
+    if values.shape != (rows, len(used)):
         return None
-    return values if extra else values[:, used]
+    if ncol > len(used) and _first_other_width(data, start, sep) != ncol:
+        return None
+    return values
+
+
+def _first_other_width(data: bytes, start: int, sep: str | None) -> int:
+    """Fields in the first data line (numpy checks that the others have as many)."""
+    end = data.find(b"\n", start)
+    line = data[start : end if end >= 0 else len(data)].decode("ascii").strip()
+    return len(line.split(sep) if sep is not None else line.split())
 
 
 def _checked_values(
-    rows: list[list[str]],
-    row_lines: list[int],
+    data: bytes,
+    start: int,
+    header_line: int,
     ncol: int,
     used: list[int],
     x_col: int | None,
     sep: str | None,
     decimal: str,
     path: str,
-) -> np.ndarray:
-    """The ``used`` columns cell by cell, raising InputError at the first bad cell; empty z
-    cells become NaN. Columns kept out are not read."""
-    values = np.empty((len(rows), len(used)), dtype=np.float64)
-    for i, cells in enumerate(rows):
-        if len(cells) != ncol:
-            hint = ""
-            if sep == "," and len(cells) == 2 * ncol:
-                hint = " (decimal commas? use ';' between fields and decimal ',')"
+    meta: dict[str, str],
+) -> tuple[np.ndarray, np.ndarray]:
+    """(the ``used`` columns, line numbers) line by line, raising InputError at the first bad
+    cell. Empty z cells become NaN; comment lines go to ``meta``; blank lines are skipped;
+    columns kept out are not read."""
+    bound = data.count(b"\n", start) + 1
+    values = np.empty((bound, len(used)), dtype=np.float64)
+    lines = np.empty(bound, dtype=np.int64)
+    k = 0
+    for number, (a, b) in enumerate(_lines(data, start), start=header_line + 1):
+        line = decode_line(data[a:b], path=path, line=number, first=number == 1).strip()
+        if line.startswith("#"):
+            _comment(line, meta)
+        elif line:
+            cells = line.split(sep) if sep is not None else line.split()
+            values[k] = _row(cells, number, ncol, used, x_col, sep, decimal, path)
+            lines[k] = number
+            k += 1
+    if k == 0:
+        raise InputError("header but no data rows", path=path, where=f"line {header_line}")
+    return values[:k], lines[:k]
+
+
+def _row(
+    cells: list[str],
+    number: int,
+    ncol: int,
+    used: list[int],
+    x_col: int | None,
+    sep: str | None,
+    decimal: str,
+    path: str,
+) -> list[float]:
+    """The ``used`` cells of one data line as floats (NaN for an empty z cell)."""
+    if len(cells) != ncol:
+        hint = ""
+        if sep == "," and len(cells) == 2 * ncol:
+            hint = " (decimal commas? use ';' between fields and decimal ',')"
+        raise InputError(
+            f"{len(cells)} fields, the header names {ncol}{hint}",
+            path=path,
+            where=f"line {number}",
+        )
+    out: list[float] = []
+    for k in used:
+        token = cells[k].strip()
+        where = f"line {number}, column {k + 1}"
+        if not token:
+            if k == x_col:
+                raise InputError("x is missing", path=path, where=where)
+            out.append(math.nan)
+            continue
+        if decimal == ",":
+            token = token.replace(",", ".")
+        elif "," in token and _DECIMAL_COMMA.match(token):
             raise InputError(
-                f"{len(cells)} fields, the header names {ncol}{hint}",
+                f"decimal comma in {token!r}; read the file with decimal ','",
                 path=path,
-                where=f"line {row_lines[i]}",
+                where=where,
             )
-        for j, k in enumerate(used):
-            cell = cells[k]
-            token = cell.strip()
-            if not token:
-                if k == x_col:
-                    raise InputError(
-                        "x is missing", path=path, where=f"line {row_lines[i]}, column {k + 1}"
-                    )
-                values[i, j] = np.nan
-                continue
-            if decimal == ",":
-                token = token.replace(",", ".")
-            elif "," in token and _DECIMAL_COMMA.match(token):
-                raise InputError(
-                    f"decimal comma in {token!r}; read the file with decimal ','",
-                    path=path,
-                    where=f"line {row_lines[i]}, column {k + 1}",
-                )
-            try:
-                if "_" in token:
-                    raise ValueError(token)
-                values[i, j] = float(token)
-            except ValueError:
-                raise InputError(
-                    f"not a number: {cell.strip()!r}",
-                    path=path,
-                    where=f"line {row_lines[i]}, column {k + 1}",
-                ) from None
-    return values
+        try:
+            if "_" in token:
+                raise ValueError(token)
+            out.append(float(token))
+        except ValueError:
+            raise InputError(
+                f"not a number: {cells[k].strip()!r}", path=path, where=where
+            ) from None
+    return out
 
 
 def write_csv(path: str | Path, profile: Profile) -> None:

@@ -18,6 +18,7 @@ from speccheck._atomic import atomic_write_text
 from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
 from speccheck.readers._common import (
+    MAX_POINTS,
     MAX_Z_SCALE_M,
     MIN_Z_SCALE_M,
     check_scale,
@@ -83,6 +84,12 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
             where=f"line {header['NumProfiles'][1]}",
         )
     n_points = number("NumPoints", int)
+    if not 1 <= n_points <= MAX_POINTS:
+        raise InputError(
+            f"NumPoints {n_points} is outside 1 .. {MAX_POINTS} points",
+            path=path,
+            where=f"line {header['NumPoints'][1]}",
+        )
     x_scale_m, z_scale_m = number("Xscale"), number("Zscale")
     check_spacing(x_scale_m * _UM_PER_M, path=path, where=f"line {header['Xscale'][1]}")
     check_scale(
@@ -95,7 +102,8 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
         where=f"line {header['Zscale'][1]}",
     )
 
-    values: list[float] = []
+    values = np.empty(n_points)  # never more than NumPoints heights are kept
+    count = 0
     j = i + 1
     closed = False
     while j < len(lines):
@@ -104,18 +112,25 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
             closed = True
             break
         for k, token in enumerate(line.split(), start=1):
+            if count == n_points:
+                raise InputError(
+                    f"more heights than NumPoints ({n_points})",
+                    path=path,
+                    where=f"line {j + 1}, column {k}",
+                )
             try:
-                values.append(float(token))
+                values[count] = float(token)
             except ValueError:
                 raise InputError(
                     f"not a number: {token!r}", path=path, where=f"line {j + 1}, column {k}"
                 ) from None
+            count += 1
         j += 1
     if not closed:
         raise InputError("SDF data not closed by a line '*'", path=path, where=f"line {j}")
-    if len(values) != n_points:
+    if count != n_points:
         raise InputError(
-            f"{len(values)} heights where NumPoints is {n_points}",
+            f"{count} heights where NumPoints is {n_points}",
             path=path,
             where=f"line {header['NumPoints'][1]}",
         )
@@ -134,7 +149,7 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
         comment=trailer.get("comment"),
     )
     with np.errstate(over="ignore"):  # overflow becomes inf, refused by profile_from_heights
-        z_um = np.asarray(values, dtype=np.float64) * (z_scale_m * _UM_PER_M)
+        z_um = values * (z_scale_m * _UM_PER_M)
 
     def locate(k: int) -> str:
         return _value_place(lines, i + 1, k)

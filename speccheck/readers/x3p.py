@@ -10,8 +10,11 @@ an invalid point. Both MD5 checksums are checked.
 
 Safety: main.xml is parsed with defusedxml (no DTD entities, no external references); archive
 member names that leave the archive (``..``, absolute paths) are refused; the total
-uncompressed size is capped at :data:`MAX_UNCOMPRESSED_BYTES` and members larger than 1 MiB
-may not compress better than :data:`MAX_COMPRESSION_RATIO` to 1.
+uncompressed size is capped at :data:`MAX_UNCOMPRESSED_BYTES`, main.xml at
+:data:`MAX_MAIN_XML_BYTES`, and members larger than 1 MiB may not compress better than
+:data:`MAX_COMPRESSION_RATIO` to 1; sizes are read from the archive's directory before anything
+is decompressed, and each member is then read to at most its stated size. The MD5 checksum of
+main.xml is verified before main.xml is parsed.
 """
 
 from __future__ import annotations
@@ -31,6 +34,7 @@ from speccheck.errors import InputError
 from speccheck.profile import Profile, SourceInfo
 from speccheck.readers._common import (
     MAX_ABS_HEIGHT_UM,
+    MAX_POINTS,
     MAX_Z_SCALE_M,
     MIN_Z_SCALE_M,
     check_scale,
@@ -41,6 +45,7 @@ from speccheck.readers._common import (
 __all__ = [
     "MAX_UNCOMPRESSED_BYTES",
     "MAX_COMPRESSION_RATIO",
+    "MAX_MAIN_XML_BYTES",
     "X3P_NAMESPACE",
     "parse_x3p",
     "write_x3p",
@@ -51,6 +56,10 @@ __all__ = [
 # ratios of 1000 and more; measured height data compresses less than 10 to 1).
 MAX_UNCOMPRESSED_BYTES = 512 * 1024 * 1024
 MAX_COMPRESSION_RATIO = 100
+# Largest main.xml (32 MiB: its metadata is a few kB; an inline DataList of 10^6 points takes
+# about 30 MB, binary data goes to bindata/). Checked before it is decompressed.
+MAX_MAIN_XML_BYTES = 32 * 1024 * 1024
+_MAX_CHECKSUM_BYTES = 4096
 _RATIO_CHECK_ABOVE_BYTES = 1024 * 1024
 
 X3P_NAMESPACE = "http://www.opengps.eu/2008/ISO5436_2"
@@ -126,10 +135,29 @@ class _Archive:
                 )
             self.members[str(pure)] = info
 
-    def read(self, name: str) -> bytes:
+    def has(self, name: str) -> bool:
+        return str(PurePosixPath(name.replace("\\", "/"))) in self.members
+
+    def read(
+        self, name: str, *, limit: int | None = None, size: int | None = None, what: str = ""
+    ) -> bytes:
+        """The bytes of member ``name``; its size (from the archive's directory, before
+        anything is decompressed) must be at most ``limit`` or exactly ``size``."""
         info = self.members.get(str(PurePosixPath(name.replace("\\", "/"))))
         if info is None:
             raise InputError("missing archive entry", path=self.path, where=name)
+        if limit is not None and info.file_size > limit:
+            raise InputError(
+                f"entry is {info.file_size} bytes, more than the {limit} bytes allowed",
+                path=self.path,
+                where=name,
+            )
+        if size is not None and info.file_size != size:
+            raise InputError(
+                f"{info.file_size} bytes where {what} need {size}",
+                path=self.path,
+                where=name,
+            )
         try:
             with self.zip.open(info) as f:
                 data = f.read(info.file_size + 1)
@@ -142,6 +170,16 @@ class _Archive:
         if len(data) > info.file_size:
             raise InputError("entry is larger than the archive says", path=self.path, where=name)
         return data
+
+
+def _checksum_name(xml: bytes, archive: _Archive) -> str:
+    """The checksum file's name, read from main.xml's bytes without parsing them."""
+    m = re.search(rb"<(?:\w+:)?ChecksumFile>\s*([^<\s]{1,200})\s*</", xml)
+    if m is not None:
+        name = m.group(1).decode("ascii", "replace")
+        if archive.has(name):
+            return name
+    return "md5checksum.hex"
 
 
 def _parse_xml(xml: bytes, path: str):
@@ -220,18 +258,23 @@ def _record2(root) -> dict[str, str]:
 def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
     """Read an X3P archive (bytes) holding one profile; every error names the entry."""
     archive = _Archive(data, path)
-    xml = archive.read("main.xml")
+    xml = archive.read("main.xml", limit=MAX_MAIN_XML_BYTES)
+    # The checksum is verified before main.xml is parsed: a damaged or swapped document is
+    # never parsed. The checksum file is md5checksum.hex unless main.xml names another one.
+    checksum_name = _checksum_name(xml, archive)
+    line = archive.read(checksum_name, limit=_MAX_CHECKSUM_BYTES).decode("ascii", "replace")
+    _check_md5(
+        xml,
+        line.strip().split()[0] if line.strip() else "",
+        path=path,
+        where=checksum_name,
+        what="main.xml",
+    )
     root = _parse_xml(xml, path)
     if _local(root.tag) != "ISO5436_2":
         raise InputError(
             f"root element is {_local(root.tag)!r}, not ISO5436_2", path=path, where="main.xml"
         )
-
-    checksum_name = _text(root, "Record4/ChecksumFile") or "md5checksum.hex"
-    line = archive.read(checksum_name).decode("ascii", errors="replace").strip()
-    _check_md5(
-        xml, line.split()[0] if line else "", path=path, where=checksum_name, what="main.xml"
-    )
 
     feature = _text(root, "Record1/FeatureType")
     if feature != "PRF":
@@ -281,6 +324,12 @@ def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
             path=path,
             where="main.xml Record3/MatrixDimension",
         )
+    if size_x > MAX_POINTS:
+        raise InputError(
+            f"SizeX {size_x}; a profile has at most {MAX_POINTS} points",
+            path=path,
+            where="main.xml Record3/MatrixDimension/SizeX",
+        )
 
     dtype = np.dtype(_DTYPES[dtype_code])
     valid: np.ndarray | None = None
@@ -291,7 +340,9 @@ def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
             raise InputError(
                 "missing element", path=path, where="main.xml Record3/DataLink/PointDataLink"
             )
-        raw = archive.read(name)
+        raw = archive.read(
+            name, size=size_x * dtype.itemsize, what=f"{size_x} points of type {dtype_code}"
+        )
         _check_md5(
             raw,
             _text(link, "MD5ChecksumPointData"),
@@ -299,17 +350,10 @@ def parse_x3p(data: bytes, *, path: str, sha256: str) -> Profile:
             where=name,
             what="MD5ChecksumPointData in main.xml",
         )
-        if len(raw) != size_x * dtype.itemsize:
-            raise InputError(
-                f"{len(raw)} bytes where {size_x} points of type {dtype_code} need "
-                f"{size_x * dtype.itemsize}",
-                path=path,
-                where=name,
-            )
         values = np.frombuffer(raw, dtype=dtype).astype(np.float64)
         valid_name = _text(link, "ValidPointsLink")
         if valid_name is not None:
-            vraw = archive.read(valid_name)
+            vraw = archive.read(valid_name, limit=(size_x + 7) // 8 + _MAX_CHECKSUM_BYTES)
             vsum = _text(link, "MD5ChecksumValidPoints")
             if vsum is not None:
                 _check_md5(
