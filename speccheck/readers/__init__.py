@@ -24,6 +24,7 @@ from speccheck.errors import InputError, SpeccheckError
 from speccheck.profile import Profile, fill_dropouts
 from speccheck.readers._common import (
     MAX_ABS_HEIGHT_UM,
+    MAX_POINTS,
     MAX_SPACING_UM,
     MIN_POINTS,
     MIN_SPACING_UM,
@@ -35,6 +36,7 @@ from speccheck.readers.delimited import parse_delimited, write_csv
 from speccheck.readers.sdf import parse_sdf, write_sdf
 from speccheck.readers.x3p import (
     MAX_COMPRESSION_RATIO,
+    MAX_MAIN_XML_BYTES,
     MAX_UNCOMPRESSED_BYTES,
     parse_x3p,
     write_x3p,
@@ -50,6 +52,8 @@ __all__ = [
     "SPACING_TOLERANCE",
     "MAX_UNCOMPRESSED_BYTES",
     "MAX_COMPRESSION_RATIO",
+    "MAX_MAIN_XML_BYTES",
+    "MAX_POINTS",
     "read_profile",
     "write_csv",
     "write_x3p",
@@ -126,14 +130,20 @@ def read_profile(
 
     if columns is not None and fmt in ("x3p", "sdf"):
         raise InputError(f"--columns applies to text files, not {fmt}", path=name)
-    data, sha256 = read_source_bytes(path)
-    if fmt == "x3p":
-        return parse_x3p(data, path=name, sha256=sha256)
-    if fmt == "sdf":
-        return parse_sdf(decode_text(data, path=name), path=name, sha256=sha256)
-    return parse_delimited(
-        data, path=name, sha256=sha256, fmt=fmt, dx=dx, decimal=decimal, columns=columns
-    )
+    try:
+        data, sha256 = read_source_bytes(path)
+        if fmt == "x3p":
+            return parse_x3p(data, path=name, sha256=sha256)
+        if fmt == "sdf":
+            return parse_sdf(decode_text(data, path=name), path=name, sha256=sha256)
+        return parse_delimited(
+            data, path=name, sha256=sha256, fmt=fmt, dx=dx, decimal=decimal, columns=columns
+        )
+    except MemoryError:
+        raise InputError(
+            "not enough memory to read this file; see the README for the memory a profile needs",
+            path=name,
+        ) from None
 
 
 def profile_summary(profile: Profile) -> dict[str, Any]:
