@@ -244,7 +244,14 @@ def _fast_values(
     else:
         block = io.BytesIO(data)
     rows = data.count(b"\n", start, end) + 1
-    try:  # numpy refuses a row whose field count differs, also with usecols
+    # usecols lets numpy skip the columns kept out, but then it no longer checks that every row
+    # has the header's fields: with a separator, count them; else parse every column.
+    narrow = ncol > len(used) and sep is not None
+    if narrow:
+        assert sep is not None
+        if data.count(sep.encode(), start, end) != (ncol - 1) * rows:
+            return None
+    try:
         values = np.loadtxt(
             block,
             delimiter=sep,
@@ -252,23 +259,14 @@ def _fast_values(
             ndmin=2,
             skiprows=skip,
             max_rows=rows,
-            usecols=used,
+            usecols=used if narrow else None,
             encoding="ascii",
         )
     except ValueError:
         return None
-    if values.shape != (rows, len(used)):
+    if values.shape != (rows, len(used) if narrow else ncol):
         return None
-    if ncol > len(used) and _first_other_width(data, start, sep) != ncol:
-        return None
-    return values
-
-
-def _first_other_width(data: bytes, start: int, sep: str | None) -> int:
-    """Fields in the first data line (numpy checks that the others have as many)."""
-    end = data.find(b"\n", start)
-    line = data[start : end if end >= 0 else len(data)].decode("ascii").strip()
-    return len(line.split(sep) if sep is not None else line.split())
+    return values if narrow else values[:, used]
 
 
 def _checked_values(
