@@ -91,7 +91,7 @@ def test_explain_sentence(tmp_path):
         "run-in and run-out each) — speccheck, λs 2.5 µm — ISO 3274:1996 Table 1, "
         "Gaussian filter (ISO 16610-21) — ASME B46.1 default, least-squares line removed first — "
         "speccheck default, decision rule: guarded rejection (ISO 14253-1): exceeding only if "
-        "outside the limit by more than U; U = 0.05 µm (k = 2) — uncertainty in the spec"
+        "outside the limit by more than U; U = 0.05 µm (k = 2) — stated, not estimated"
     )
 
 

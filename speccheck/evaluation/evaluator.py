@@ -53,6 +53,7 @@ from speccheck.evaluation.rules import RuleOutcome, Sampling, apply_rule, combin
 from speccheck.spec.requirement import rule_words, rules_standard
 
 if TYPE_CHECKING:
+    from speccheck.instrument.loader import LoadedInstrument
     from speccheck.parameters.compute import InsufficientData, ParameterSet
     from speccheck.parameters.conditions import Conditions
     from speccheck.profile import Profile
@@ -84,6 +85,7 @@ class _Value:
     section: int | None
     value: float | None
     unknown: _Unknown | None = None
+    u: float | None = None  # expanded uncertainty U estimated for this value, in the unit
 
 
 def _fmt(x: float) -> str:
@@ -124,7 +126,7 @@ def requirement_conditions(spec: LoadedSpec, req: Requirement) -> Conditions:
 def _check_requirement(spec: LoadedSpec, req: Requirement) -> None:
     if req.upper is None and req.lower is None:
         raise SpecError(f"{req.text}: no limit", path=spec.path, where=req.location)
-    if req.decision_rule != "simple" and req.uncertainty is None:
+    if req.decision_rule != "simple" and req.uncertainty is None and not req.uncertainty_estimated:
         raise SpecError(
             f"{req.text}: decision rule {req.decision_rule} needs the expanded uncertainty U of "
             f"{req.parameter} (add it under 'uncertainty')",
@@ -228,6 +230,11 @@ def _sides(req: Requirement) -> list[tuple[Side, float]]:
     return out
 
 
+def _u(req: Requirement, v: _Value) -> float | None:
+    """U of one value: estimated for it, else the requirement's stated U."""
+    return v.u if v.u is not None else req.uncertainty
+
+
 def _judge(
     req: Requirement, values: list[_Value], decision_rule: DecisionRule, sampling: Sampling
 ) -> tuple[RuleOutcome, list[RuleOutcome]]:
@@ -241,7 +248,7 @@ def _judge(
                 limit=limit,
                 side=side,
                 decision_rule=decision_rule,
-                uncertainty=req.uncertainty,
+                uncertainty=_u(req, v),
             )
             for v in values
         ]
@@ -256,7 +263,7 @@ def _judge(
                 first.value,
                 limit=limit,
                 decision_rule=decision_rule,
-                uncertainty=req.uncertainty,
+                uncertainty=_u(req, first),
             )
         outcomes.append(
             apply_rule(
@@ -324,6 +331,18 @@ def _basis(req: Requirement, cond: Conditions) -> str:
     return basis(parsed.base, cond.definitions)
 
 
+def _u_text(req: Requirement, values: list[_Value]) -> str:
+    """ "U = 0.05 µm (stated, not estimated)" or the range of the estimated U."""
+    unit = _unit_text(req.unit)
+    if not req.uncertainty_estimated:
+        return f"U = {_fmt(req.uncertainty or 0.0)}{unit} (stated, not estimated)"
+    us = [v.u for v in values if v.u is not None]
+    if not us:
+        return "U estimated per value (no value to estimate)"
+    span = f"{min(us):.3g}{unit}" if max(us) == min(us) else f"{min(us):.3g} to {max(us):.3g}{unit}"
+    return f"U estimated per value, {span} (95 %)"
+
+
 def _requirement_result(
     spec: LoadedSpec, req: Requirement, cond: Conditions, values: list[_Value]
 ) -> RequirementResult:
@@ -348,25 +367,21 @@ def _requirement_result(
                 )
             )
             continue
-        z = zone(v.value, upper=req.upper, lower=req.lower, uncertainty=u)
+        uv = _u(req, v)
+        z = zone(v.value, upper=req.upper, lower=req.lower, uncertainty=uv)
         in_range += z == "uncertain"
         exceeding = any(
             counts_as_exceeding(
-                v.value, limit=lim, side=side, decision_rule=req.decision_rule, uncertainty=u
+                v.value, limit=lim, side=side, decision_rule=req.decision_rule, uncertainty=uv
             )
             for side, lim in _sides(req)
         )
-        records.append(
-            ValueRecord(
-                v.measurement,
-                v.value,
-                req.unit,
-                z,
-                "exceeding" if exceeding else "within",
-                v.section,
-            )
+        record = ValueRecord(
+            v.measurement, v.value, req.unit, z, "exceeding" if exceeding else "within", v.section
         )
-    if u is not None and in_range:
+        record.uncertainty = uv
+        records.append(record)
+    if (u is not None or req.uncertainty_estimated) and in_range:
         # uncertainty range counted exceeding, then counted within
         low, _ = _judge(req, values, "guarded-acceptance", spec.sampling)
         high, _ = _judge(req, values, "guarded-rejection", spec.sampling)
@@ -384,9 +399,9 @@ def _requirement_result(
     explanation = (
         f"{req.parameter} against the {_limits_text(req)}, {rule_text}: {'; '.join(side_texts)}"
     )
-    if u is not None:
+    if u is not None or req.uncertainty_estimated:
         explanation += (
-            f"; U = {_fmt(u)}{_unit_text(req.unit)}, {ILAC_G8_NAMES[req.decision_rule]}"
+            f"; {_u_text(req, values)}, {ILAC_G8_NAMES[req.decision_rule]}"
             f", {in_range} value{'s' if in_range != 1 else ''} in the uncertainty range"
         )
     explanation += _after_decision_text(late) + "."
@@ -481,6 +496,7 @@ def _requirement_result(
         # _attach_diagnostics below; this list stays empty until then.
         diagnostics=[],
         sampling=spec.sampling,
+        uncertainty_source=req.uncertainty_source,
         **_in_drawing_unit(req, records),
     )
 
@@ -524,6 +540,22 @@ def _after_decision_text(late: list[ValueRecord]) -> str:
     if beyond:
         text += f" ({beyond} of them exceed{'s' if beyond == 1 else ''} a limit)"
     return text
+
+
+def _with_estimates(vals: list[_Value], est: Any, budget: list[dict[str, Any]]) -> list[_Value]:
+    """Values with their estimated U; the estimate's budget appended to ``budget``."""
+    from dataclasses import replace
+
+    if est is None:
+        return vals
+    out = []
+    for v in vals:
+        if v.value is None:
+            out.append(v)
+            continue
+        out.append(replace(v, u=est.expanded))
+        budget.append({"measurement": v.measurement, **est.to_dict()})
+    return out
 
 
 def _attach_diagnostics(
@@ -579,7 +611,11 @@ def _overall(results: list[RequirementResult]) -> tuple[Verdict, str | None]:
 
 
 def evaluate(
-    spec: LoadedSpec, profiles: Sequence[Profile], *, created: str | None = None
+    spec: LoadedSpec,
+    profiles: Sequence[Profile],
+    *,
+    created: str | None = None,
+    instrument: LoadedInstrument | None = None,
 ) -> CheckResult:
     """Check measured profiles against a loaded specification.
 
@@ -592,6 +628,9 @@ def evaluate(
         the 16 % rule).
     created:
         ISO 8601 UTC time stamp to record; now when None.
+    instrument:
+        The instrument file (:func:`speccheck.instrument.load_instrument`); its calibration
+        data give every value its own U under ``uncertainty: estimate``.
 
     Returns
     -------
@@ -626,6 +665,9 @@ def evaluate(
             lst.append(req.parameter)
 
     computed: dict[tuple[int, Conditions], Any] = {}
+    from speccheck.evaluation.estimate import estimator_for
+
+    estimator = estimator_for(spec, instrument, reqs, conds)
 
     def params(i: int, cond: Conditions) -> Any:
         key = (i, cond)
@@ -645,6 +687,7 @@ def evaluate(
     found: list[dict[str, dict[str, Any]]] = [{} for _ in prepared]
     for req, cond in zip(reqs, conds, strict=True):
         values: list[_Value] = []
+        budget: list[dict[str, Any]] = []
         for i, p in enumerate(prepared):
             unknown = _unusable(p, cond)
             ps = params(i, cond) if unknown is None else None
@@ -656,6 +699,8 @@ def evaluate(
                 values.append(_Value(i, None, None, unknown))
                 continue
             vals = _parameter_values(spec, req, i, ps)
+            if estimator is not None and req.uncertainty_estimated:
+                vals = _with_estimates(vals, estimator.get(i, p, cond, ps, req.parameter), budget)
             values.extend(vals)
             pv = ps.values.get(req.parameter)
             if pv is not None:
@@ -670,6 +715,7 @@ def evaluate(
                     key = f"{key} (λc {_fmt(cond.lambda_c_mm)} mm, {cond.sections} sections)"
                 found[i][key] = entry
         results.append(_requirement_result(spec, req, cond, values))
+        results[-1].uncertainty_budget = budget
 
     _attach_diagnostics(spec, results, conds, computed)
 
@@ -765,7 +811,14 @@ def evaluate_files(
     dx: Any = None,
     decimal: str = ".",
     created: str | None = None,
+    instrument_path: str | Path | None = None,
 ) -> CheckResult:
-    """Load a spec file and profile files (:func:`load_inputs`), then :func:`evaluate` them."""
+    """Load a spec file and profile files (:func:`load_inputs`), then :func:`evaluate` them;
+    ``instrument_path`` is the instrument file for ``uncertainty: estimate``."""
     spec, profiles = load_inputs(spec_path, profile_paths, fmt=fmt, dx=dx, decimal=decimal)
-    return evaluate(spec, profiles, created=created)
+    instrument = None
+    if instrument_path is not None:
+        from speccheck.instrument import load_instrument
+
+        instrument = load_instrument(instrument_path)
+    return evaluate(spec, profiles, created=created, instrument=instrument)

@@ -44,6 +44,8 @@ class ValueRecord:
     after_decision: bool = False
     # the value in the drawing's unit when that differs from `unit` (µin on inch drawings)
     drawing_value: float | None = None
+    # expanded uncertainty U of this value in `unit`: estimated for it, or the stated one
+    uncertainty: float | None = None
 
 
 @dataclass
@@ -70,6 +72,12 @@ class RequirementResult:
     # the drawing's unit when it differs from `unit` ("µin"), else None; limits in that unit
     drawing_unit: str | None = None
     drawing_limits: dict[str, float | None] | None = None  # upper, lower, uncertainty
+    # "stated, not estimated", "estimated per value ..." or "not given"
+    uncertainty_source: str = ""
+    # `uncertainty: estimate`: one entry per value, {"measurement", "parameter", "value",
+    # "unit", "expanded", "probability", "governing", "agree", "gum", "monte_carlo", "budget"
+    # (input, source, u_input, input_unit, sensitivity, contribution, share, dof), "dominant"}
+    uncertainty_budget: list[dict[str, Any]] = field(default_factory=list)
 
 
 @dataclass

@@ -168,6 +168,8 @@ def explain_requirement(req: Requirement) -> list[tuple[str, str]]:
     section = req.lambda_f_mm if req.lambda_f_mm is not None else req.lambda_c_mm
     if req.uncertainty is not None:
         u = f"U = {_num(req.uncertainty, req.unit)} (k = 2) — {req.uncertainty_source}"
+    elif req.uncertainty_estimated:
+        u = "U of each value estimated from the instrument file — 'uncertainty: estimate'"
     else:
         u = "U not given"
     return [

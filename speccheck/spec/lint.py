@@ -169,7 +169,7 @@ def lint_file(path: str | Path) -> list[Finding]:
         except SpeccheckError as exc:
             r_line, r_col = _req_position(req)
             add(r_line, r_col, "error", f"{req.text}: {exc.message}")
-    if check.model is not None:
+    if check.model is not None and isinstance(check.model.uncertainty, dict):
         for key in check.model.uncertainty:
             parsed = parse_parameter_name(str(key))
             if parsed is not None and parsed.name not in names:

@@ -191,5 +191,6 @@ def check_spec(path: str | Path) -> SpecCheck:
         notes=model.notes,
         requirements=tuple(requirements),
         sampling=model.sampling,
+        uncertainty_estimate=model.uncertainty == "estimate",
     )
     return result

@@ -146,9 +146,11 @@ class SpecFile(_Strict):
         "1 µin = 0.0254 µm exactly); required under convention asme.",
     )
     decision_rule: Literal["simple", "guarded-acceptance", "guarded-rejection"] = "simple"
-    uncertainty: dict[str, ValueText] = Field(
+    uncertainty: Literal["estimate"] | dict[str, ValueText] = Field(
         default_factory=dict,
-        description="Expanded uncertainty U (k = 2) per parameter, with unit: {'Ra': '0.05um'}.",
+        description="Expanded uncertainty U (k = 2) per parameter, with unit: {'Ra': '0.05um'} "
+        "(stated, not estimated); or 'estimate': U of every value estimated from the "
+        "instrument file's calibration data and the profile (GUM and Monte Carlo, 95 %).",
     )
     diagnostics: Diagnostics = Field(default_factory=lambda: Diagnostics())
     sampling: Literal["sequential", "fixed"] = Field(

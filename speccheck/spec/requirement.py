@@ -71,6 +71,8 @@ class Requirement:
     filter_source: str = ""
     form_source: str = ""
     uncertainty_source: str = ""
+    # True under `uncertainty: estimate`: every value carries its own U, estimated at check time
+    uncertainty_estimated: bool = False
     # Which edition defines the parameter's value: "iso4287" (ISO 4287:1997 section means; also
     # used under the ASME convention) or "iso21920-2" (ISO 21920-2:2021 field parameters).
     definitions: Literal["iso4287", "iso21920-2"] = "iso4287"
@@ -139,3 +141,5 @@ class LoadedSpec:
     requirements: tuple[Requirement, ...]
     # how the 16 % rule takes its values: the ISO 4288 step procedure, or a sample fixed in advance
     sampling: Literal["sequential", "fixed"] = "sequential"
+    # `uncertainty: estimate`: U per value from the instrument file's calibration data
+    uncertainty_estimate: bool = False

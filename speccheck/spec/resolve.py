@@ -138,6 +138,31 @@ def _number(text: str, what: str, original: Any, hint: str = "") -> float:
 # --- resolution ---------------------------------------------------------------------------------
 
 
+def estimate_refusal(fields: dict[str, Any], value_per: str) -> str | None:
+    """Why ``uncertainty: estimate`` cannot cover a requirement, or None when it can.
+
+    The model (speccheck.uncertainty.model) covers the height parameters of the roughness
+    profile under the Gaussian filter, one value per evaluation length, with run-in and run-out.
+    """
+    from speccheck.parameters.names import parse_parameter_name
+    from speccheck.uncertainty.heights import SUPPORTED
+
+    parsed = parse_parameter_name(fields["parameter"])
+    covered = ", ".join("R" + b for b in SUPPORTED)
+    if parsed is None or parsed.letter != "R" or parsed.base not in SUPPORTED:
+        return (
+            f"uncertainty: estimate covers {covered}; state U of {fields['parameter']} "
+            "under 'uncertainty' instead"
+        )
+    if fields.get("filter", "gaussian") != "gaussian":
+        return "uncertainty: estimate covers the Gaussian filter only"
+    if value_per != "evaluation-length":
+        return "uncertainty: estimate covers one value per evaluation length"
+    if fields.get("ends", "run-in") != "run-in":
+        return "uncertainty: estimate needs run-in and run-out (measurement.ends: run-in)"
+    return None
+
+
 @dataclass
 class _Defaults:
     lambda_c_mm: float | None
@@ -186,6 +211,8 @@ class _Resolver:
 
     def uncertainties(self, names: set[str]) -> dict[str, float]:
         out: dict[str, float] = {}
+        if not isinstance(self.spec.uncertainty, dict):  # 'estimate': U comes per value
+            return out
         for key, value in self.spec.uncertainty.items():
             kp: KeyPath = ("uncertainty", key)
             parsed = parse_parameter_name(str(key))
@@ -243,6 +270,24 @@ class _Resolver:
         for _i, fields in pending:
             name = fields["parameter"]
             u = u_map.get(name)
+            if self.spec.uncertainty == "estimate":
+                refusal = estimate_refusal(fields, self.spec.measurement.value_per)
+                if refusal:
+                    self.errors.append(
+                        SpecError(
+                            f"{fields['text']}: {refusal}",
+                            path=self.path,
+                            where=fields["location"],
+                        )
+                    )
+                    continue
+                fields["uncertainty"] = None
+                fields["uncertainty_estimated"] = True
+                fields["uncertainty_source"] = (
+                    "estimated per value from the instrument file (GUM and Monte Carlo, 95 %)"
+                )
+                resolved.append(Requirement(**fields))
+                continue
             if fields["decision_rule"] != "simple" and u is None:
                 self.errors.append(
                     SpecError(
@@ -254,9 +299,7 @@ class _Resolver:
                 )
                 continue
             fields["uncertainty"] = u
-            fields["uncertainty_source"] = (
-                "uncertainty in the spec" if u is not None else "not given"
-            )
+            fields["uncertainty_source"] = "stated, not estimated" if u is not None else "not given"
             resolved.append(Requirement(**fields))
         return resolved
 
