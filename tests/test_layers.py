@@ -16,6 +16,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "speccheck"
 # Lowest first. Modules of equal rank may import each other.
 RANKS = {
     "speccheck": 0,  # package root: errors, units, profile, _atomic, _version
+    "speccheck.schemas": 0,  # the JSON interface version and hand-written JSON Schemas
     "speccheck.readers": 1,
     "speccheck.filters": 2,
     "speccheck.parameters": 3,

@@ -10,6 +10,8 @@ from __future__ import annotations
 from dataclasses import asdict, dataclass, field
 from typing import Any, Literal
 
+from speccheck.schemas import SCHEMA_VERSION
+
 __all__ = [
     "Verdict",
     "Zone",
@@ -17,10 +19,9 @@ __all__ = [
     "RequirementResult",
     "MeasurementRecord",
     "CheckResult",
-    "RESULT_FORMAT_VERSION",
+    "SCHEMA_VERSION",
+    "in_current_form",
 ]
-
-RESULT_FORMAT_VERSION = 1
 
 Verdict = Literal["conforming", "nonconforming", "undecided"]
 # ISO 14253-1 zones of one measured value relative to one limit and its expanded uncertainty U:
@@ -33,7 +34,7 @@ Zone = Literal["within", "uncertain", "outside"]
 class ValueRecord:
     """One measured value of one requirement's parameter."""
 
-    measurement: int  # index into CheckResult.measurements
+    measurement: int  # index into CheckResult.measurements (numbered from 1 in the JSON)
     value: float | None  # None when the measurement could not be evaluated
     unit: str
     zone: Zone | None = None
@@ -104,17 +105,73 @@ class CheckResult:
     spec: dict[str, Any]  # path, sha256, part, revision, surface, convention, ...
     software: dict[str, str]  # name, version
     created: str  # ISO 8601 UTC
-    format_version: int = RESULT_FORMAT_VERSION
+    schema_version: str = SCHEMA_VERSION
 
     def to_dict(self) -> dict[str, Any]:
-        return asdict(self)
+        """The result JSON: in memory measurements count from 0, in the JSON from 1."""
+        d = asdict(self)
+        d = {"schema_version": d.pop("schema_version"), **d}
+        d["measurements"] = [{"number": m.pop("index") + 1, **m} for m in d["measurements"]]
+        _renumber(d["requirements"], +1)
+        return d
 
     @classmethod
     def from_dict(cls, d: dict[str, Any]) -> CheckResult:
+        """A result from its JSON: this schema version, or the earlier ``format_version: 1``
+        (measurements counted from 0, kept as it was recorded)."""
+        d = dict(d)
+        if d.pop("format_version", None) is not None:
+            meas = [MeasurementRecord(**m) for m in d["measurements"]]
+            reqs_in = d["requirements"]
+        else:
+            meas = [
+                MeasurementRecord(index=m["number"] - 1, **_without(m, "number"))
+                for m in d["measurements"]
+            ]
+            reqs_in = [dict(r) for r in d["requirements"]]
+            _renumber(reqs_in, -1)
         reqs = [
             RequirementResult(**{**r, "values": [ValueRecord(**v) for v in r.get("values", [])]})
-            for r in d["requirements"]
+            for r in reqs_in
         ]
-        meas = [MeasurementRecord(**m) for m in d["measurements"]]
         rest = {k: v for k, v in d.items() if k not in ("requirements", "measurements")}
         return cls(requirements=reqs, measurements=meas, **rest)
+
+
+def in_current_form(d: dict[str, Any]) -> dict[str, Any]:
+    """A check result's JSON in the current form: one recorded in the earlier form
+    (``format_version: 1``, measurements counted from 0) is renumbered from 1 (a copy); any
+    other document is returned as it is."""
+    if "format_version" not in d:
+        return d
+    out = {"schema_version": SCHEMA_VERSION, **_without(d, "format_version")}
+    meas = out.get("measurements")
+    if isinstance(meas, list):
+        out["measurements"] = [
+            {"number": m["index"] + 1, **_without(m, "index")}
+            if isinstance(m, dict) and isinstance(m.get("index"), int)
+            else m
+            for m in meas
+        ]
+    reqs = out.get("requirements")
+    if isinstance(reqs, list):
+        out["requirements"] = [dict(r) if isinstance(r, dict) else r for r in reqs]
+        _renumber([r for r in out["requirements"] if isinstance(r, dict)], +1)
+    return out
+
+
+def _without(d: dict[str, Any], key: str) -> dict[str, Any]:
+    return {k: v for k, v in d.items() if k != key}
+
+
+def _renumber(requirements: list[dict[str, Any]], by: int) -> None:
+    """Shift every measurement number in requirement dicts by ``by`` (in place, copying lists)."""
+    for r in requirements:
+        for key in ("values", "diagnostics", "uncertainty_budget"):
+            entries = []
+            for e in r.get(key) or []:
+                if isinstance(e, dict) and isinstance(e.get("measurement"), int):
+                    e = {**e, "measurement": e["measurement"] + by}
+                entries.append(e)
+            if key in r:
+                r[key] = entries

@@ -16,7 +16,8 @@ from dataclasses import dataclass, field
 from typing import Any, Literal
 
 from speccheck.errors import ExitStatus
-from speccheck.evaluation.result import CheckResult
+from speccheck.evaluation.result import CheckResult, in_current_form
+from speccheck.schemas import SCHEMA_VERSION
 
 __all__ = [
     "Disposition",
@@ -24,10 +25,9 @@ __all__ = [
     "LotResult",
     "part_verdict",
     "dispose",
-    "LOT_FORMAT_VERSION",
+    "lot_in_current_form",
 ]
 
-LOT_FORMAT_VERSION = 1
 Disposition = Literal["accept", "reject", "undecided"]
 
 _EXIT = {
@@ -111,8 +111,8 @@ class LotResult:
     software: dict[str, str]
     created: str
     data_dir: str | None = None
-    format_version: int = LOT_FORMAT_VERSION
     kind: str = field(default="lot")
+    schema_version: str = SCHEMA_VERSION
 
     @property
     def exit_status(self) -> ExitStatus:
@@ -120,8 +120,8 @@ class LotResult:
 
     def to_dict(self) -> dict[str, Any]:
         return {
+            "schema_version": self.schema_version,
             "kind": self.kind,
-            "format_version": self.format_version,
             "plan": self.plan,
             "lot": self.lot,
             "surfaces": self.surfaces,
@@ -139,5 +139,30 @@ class LotResult:
 
     @classmethod
     def from_dict(cls, d: dict[str, Any]) -> LotResult:
-        rest = {k: v for k, v in d.items() if k != "parts"}
+        rest = {k: v for k, v in d.items() if k not in ("parts", "format_version")}
         return cls(parts=[PartResult.from_dict(p) for p in d["parts"]], **rest)
+
+
+def lot_in_current_form(d: dict[str, Any]) -> dict[str, Any]:
+    """A lot result's JSON in the current form: one recorded in the earlier form
+    (``format_version: 1``) gets ``schema_version`` and every part's check results are
+    renumbered from 1 (a copy); any other document is returned as it is."""
+    if "format_version" not in d:
+        return d
+    out: dict[str, Any] = {
+        "schema_version": SCHEMA_VERSION,
+        **{k: v for k, v in d.items() if k != "format_version"},
+    }
+    parts = out.get("parts")
+    if isinstance(parts, list):
+        out["parts"] = [_part_in_current_form(p) for p in parts]
+    return out
+
+
+def _part_in_current_form(part: Any) -> Any:
+    if not isinstance(part, dict) or not isinstance(part.get("surfaces"), dict):
+        return part
+    surfaces = {
+        k: in_current_form(v) if isinstance(v, dict) else v for k, v in part["surfaces"].items()
+    }
+    return {**part, "surfaces": surfaces}

@@ -17,6 +17,7 @@ from pathlib import Path, PurePosixPath
 from typing import Any
 
 from speccheck.errors import ReportError
+from speccheck.lot.result import lot_in_current_form
 from speccheck.report.verify import VerifyResult, _check_signature, compare_results
 
 __all__ = ["is_lot_record", "verify_lot_record", "verify_record"]
@@ -122,6 +123,8 @@ def verify_lot_record(
         except Exception as exc:  # SpeccheckError from the attachments: the record is broken
             msg = getattr(exc, "message", None) or str(exc)
             problems.append(f"the attachments cannot be evaluated again: {' '.join(msg.split())}")
+    if fresh:
+        recorded = lot_in_current_form(recorded)
     differences = compare_results(_normalised(recorded), _normalised(fresh)) if fresh else []
     return VerifyResult(
         path=str(path),

@@ -18,6 +18,8 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
+from speccheck.evaluation.result import in_current_form
+
 __all__ = [
     "MIN_VALUES_FOR_INDEX",
     "TrendPoint",
@@ -151,14 +153,15 @@ class Trend:
 
 
 def _checks_of(record: Any, surface: str | None) -> Iterable[tuple[str, dict[str, Any]]]:
+    """Each check result in a record, in today's JSON form (measurements counted from 1)."""
     result = record.result
     if record.kind == "lot":
         for part in result.get("parts", []):
             for name, check in part.get("surfaces", {}).items():
                 if surface is None or name == surface:
-                    yield f"record {record.id}, part {part.get('serial')}", check
+                    yield f"record {record.id}, part {part.get('serial')}", in_current_form(check)
     elif surface is None or (result.get("spec") or {}).get("surface") == surface:
-        yield f"record {record.id}", result
+        yield f"record {record.id}", in_current_form(result)
 
 
 def collect_trend(
@@ -190,7 +193,7 @@ def collect_trend(
                 unit = reqs[0].get("unit", "")
                 for v in reqs[0].get("values", []):
                     if v.get("value") is not None:
-                        where = f"{label}, measurement {v['measurement'] + 1}"
+                        where = f"{label}, measurement {v['measurement']}"
                         if v.get("section") is not None:
                             where += f", section {v['section'] + 1}"
                         points.append(TrendPoint(rec.id, rec.time, float(v["value"]), where))
@@ -204,7 +207,7 @@ def collect_trend(
                                 rec.id,
                                 rec.time,
                                 float(pv["value"]),
-                                f"{label}, measurement {m['index'] + 1}",
+                                f"{label}, measurement {m['number']}",
                             )
                         )
     if len(limit_sets) > 1:

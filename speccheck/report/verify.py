@@ -152,8 +152,11 @@ def compare_results(recorded: Any, recomputed: Any, where: str = "") -> list[str
 
 
 def _normalised(result: dict[str, Any]) -> dict[str, Any]:
-    """The result without what legitimately differs between runs: time, paths, software."""
-    d = json.loads(json.dumps(result))
+    """The result without what legitimately differs between runs: time, paths, software;
+    one recorded in the earlier JSON form is renumbered as today's."""
+    from speccheck.evaluation.result import in_current_form
+
+    d = json.loads(json.dumps(in_current_form(result)))
     d.pop("created", None)
     d.pop("software", None)
     d.pop(CHAIN_KEY, None)  # the store's state when written: not part of the evaluation
