@@ -10,6 +10,7 @@ from __future__ import annotations
 import errno
 import re
 from enum import IntEnum
+from typing import Any
 
 __all__ = [
     "ExitStatus",
@@ -72,6 +73,24 @@ class SpeccheckError(Exception):
     def __str__(self) -> str:
         return self.one_line()
 
+    def to_error_dict(self) -> dict[str, Any]:
+        """The ``error`` object of the JSON error document: file, line, column, message, code."""
+        line = column = None
+        m = _LINE_COL.fullmatch((self.where or "").strip())
+        if m:
+            line = int(m["line"])
+            column = int(m["col"]) if m["col"] else None
+        message = " ".join(self.message.split())
+        if self.where and not m:
+            message = f"{' '.join(self.where.split())}: {message}"
+        return {
+            "file": self.path,
+            "line": line,
+            "column": column,
+            "message": message,
+            "code": ERROR_CODES.get(type(self), "input"),
+        }
+
 
 class InputError(SpeccheckError):
     """A measured-profile file that cannot be read as it claims to be."""
@@ -119,3 +138,14 @@ def os_error(
     reason = _OS_REASONS.get(exc.errno or -1) or exc.strerror or type(exc).__name__
     name = path if path is not None else (exc.filename and str(exc.filename))
     return FileAccessError(f"{doing}: {reason}", path=name or None)
+
+
+#: ``code`` of the JSON error document for each class of error (stable within a schema version).
+ERROR_CODES: dict[type, str] = {
+    SpeccheckError: "input",
+    InputError: "input",
+    SpecError: "spec",
+    ReportError: "report",
+    RecordsError: "records",
+    FileAccessError: "file-access",
+}

@@ -17,6 +17,45 @@ def internal_errors_fail(monkeypatch):
     monkeypatch.setenv("SPECCHECK_DEBUG", "1")
 
 
+_VALIDATORS: dict = {}
+
+
+def schema_validator(document: str):
+    """A jsonschema validator (draft 2020-12) of speccheck's schema for ``document``."""
+    if document not in _VALIDATORS:
+        from jsonschema import Draft202012Validator
+
+        from speccheck.schemas import schema
+
+        doc = schema(document)
+        Draft202012Validator.check_schema(doc)
+        _VALIDATORS[document] = Draft202012Validator(doc)
+    return _VALIDATORS[document]
+
+
+@pytest.fixture(autouse=True)
+def json_documents_match_their_schemas(monkeypatch):
+    """Every JSON document the command line writes in any test is validated against its schema
+    (``speccheck schema --what DOCUMENT``) before it is written; a mismatch fails the test."""
+    import speccheck.cli.options as options
+
+    original = options.json_text
+
+    def checked(doc, document, *, strict=True):
+        text = original(doc, document, strict=strict)
+        import json
+
+        errors = sorted(
+            schema_validator(document).iter_errors(json.loads(text)), key=lambda e: e.path
+        )
+        assert not errors, f"{document} JSON does not match its schema: " + "; ".join(
+            f"{'/'.join(map(str, e.path))}: {e.message}" for e in errors[:5]
+        )
+        return text
+
+    monkeypatch.setattr(options, "json_text", checked)
+
+
 @pytest.fixture
 def run_cli(capsys):
     """Run ``speccheck ARGS``; returns (exit status, stdout, stderr)."""

@@ -12,6 +12,7 @@ from test_lot import GOOD, SPEC, sine_csv
 from test_records_store import make_result
 
 from speccheck.records.store import RecordsStore
+from speccheck.schemas import SCHEMA_VERSION
 
 
 @pytest.fixture
@@ -26,7 +27,7 @@ def db(tmp_path: Path) -> Path:
 def test_list_json_and_table(run_cli, db: Path):
     status, out, _ = run_cli("records", "list", "--db", db, "--json")
     assert status == 0
-    rows = json.loads(out)
+    rows = json.loads(out)["records"]
     with RecordsStore.open(db, create=False) as store:
         assert [r["record_hash"] for r in rows] == [r.record_hash for r in store.list()]
     status, out, _ = run_cli("records", "list", "--db", db, "--last", "1")
@@ -39,14 +40,14 @@ def test_list_json_and_table(run_cli, db: Path):
 def test_db_from_environment(run_cli, db: Path, monkeypatch):
     monkeypatch.setenv("SPECCHECK_DB", str(db))
     status, out, _ = run_cli("records", "list", "--json")
-    assert status == 0 and len(json.loads(out)) == 3
+    assert status == 0 and len(json.loads(out)["records"]) == 3
 
 
 def test_show_round_trip(run_cli, db: Path):
     status, out, _ = run_cli("records", "show", "2", "--db", db)
     assert status == 0
     with RecordsStore.open(db, create=False) as store:
-        assert json.loads(out) == store.get(2).to_dict()
+        assert json.loads(out) == {"schema_version": SCHEMA_VERSION, **store.get(2).to_dict()}
     status, out, err = run_cli("records", "show", "9", "--db", db)
     assert (status, out) == (2, "")
     assert err == f"speccheck: error: {db}:record 9: no such record\n"

@@ -186,7 +186,7 @@ def command(
     loaded, measured = load_inputs(spec, list(profiles), fmt=fmt, dx=dx, decimal=decimal)
     result = evaluate(loaded, measured)
     if json_out is not None:
-        write_json(result.to_dict(), json_out)
+        write_json(result.to_dict(), json_out, document="result")
     if json_out != "-":
         color = sys.stdout.isatty() and "NO_COLOR" not in os.environ
         click.echo(render_table(result, color=color), nl=False)

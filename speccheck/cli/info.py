@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import json
-
 import click
 
 from speccheck.cli.options import (
@@ -11,6 +9,7 @@ from speccheck.cli.options import (
     columns_option,
     decimal_option,
     dx_option,
+    echo_json,
     format_option,
     json_flag,
 )
@@ -36,7 +35,7 @@ def command(
 
     summary = profile_summary(read_profile(file, fmt=fmt, dx=dx, decimal=decimal, columns=columns))
     if as_json:
-        click.echo(json.dumps(summary, indent=2, ensure_ascii=False, allow_nan=False))
+        echo_json(summary, "info")
         return 0
     from rich.console import Console
     from rich.table import Table

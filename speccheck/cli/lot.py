@@ -138,7 +138,7 @@ def command(
 
             signer = signer_identity(Path(sign_p12), passphrase).name
     if json_out:
-        write_json(result.to_dict(), json_out)
+        write_json(result.to_dict(), json_out, document="lot")
     if record:
         from speccheck.records.store import RecordsStore, default_db_path
 

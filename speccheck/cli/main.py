@@ -10,6 +10,7 @@ from __future__ import annotations
 import importlib
 import os
 import sys
+from typing import Any
 
 import click
 
@@ -34,7 +35,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "Say in plain words what each requirement of a spec asks for.",
     ),
     "lint": ("speccheck.cli.lint", "Find mistakes and risky choices in specification files."),
-    "schema": ("speccheck.cli.schema", "Print the JSON Schema of specification files."),
+    "schema": (
+        "speccheck.cli.schema",
+        "Print the JSON Schema of spec, plan or instrument files, or of a JSON output.",
+    ),
     "verify": (
         "speccheck.cli.verify",
         "Verify a signed conformance record and recompute its result.",
@@ -126,37 +130,71 @@ def _run(argv: list[str] | None) -> int:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns (and, as a script, exits with) the exit status."""
+    args = list(sys.argv[1:] if argv is None else argv)
     try:
-        rv = _run(argv)
+        rv = _run(args)
     except SpeccheckError as exc:
-        click.echo(f"speccheck: error: {exc.one_line()}", err=True)
-        rv = ExitStatus.ERROR
+        rv = _fail(args, f"error: {exc.one_line()}", exc.to_error_dict())
     except click.exceptions.Abort:
-        click.echo("speccheck: aborted", err=True)
-        rv = ExitStatus.ERROR
+        rv = _fail(args, "aborted", _error_dict("aborted", "usage"))
     except click.UsageError as exc:
         cmd = exc.ctx.command_path if exc.ctx is not None else "speccheck"
         msg = " ".join(exc.format_message().split())
-        click.echo(f"speccheck: error: {msg} (see '{cmd} --help')", err=True)
-        rv = ExitStatus.ERROR
+        rv = _fail(args, f"error: {msg} (see '{cmd} --help')", _error_dict(msg, "usage"))
     except click.ClickException as exc:
         msg = " ".join(exc.format_message().split())
-        click.echo(f"speccheck: error: {msg}", err=True)
-        rv = ExitStatus.ERROR
+        rv = _fail(args, f"error: {msg}", _error_dict(msg, "usage"))
     except OSError as exc:  # an I/O failure below a library call: still the file's problem
-        click.echo(f"speccheck: error: {os_error(exc, doing='cannot access').one_line()}", err=True)
-        rv = ExitStatus.ERROR
+        err = os_error(exc, doing="cannot access")
+        rv = _fail(args, f"error: {err.one_line()}", err.to_error_dict())
     except KeyboardInterrupt:
-        click.echo("speccheck: interrupted", err=True)
-        rv = ExitStatus.ERROR
+        rv = _fail(args, "interrupted", _error_dict("interrupted", "usage"))
     except Exception as exc:  # a bug, not bad input: one line, traceback on request
         if os.environ.get("SPECCHECK_DEBUG"):
             raise
         msg = " ".join(f"{type(exc).__name__}: {exc}".split())
-        click.echo(
-            f"speccheck: internal error: {msg} (set SPECCHECK_DEBUG=1 for a traceback)", err=True
+        rv = _fail(
+            args,
+            f"internal error: {msg} (set SPECCHECK_DEBUG=1 for a traceback)",
+            _error_dict(msg, "internal"),
         )
-        rv = ExitStatus.ERROR
     if __name__ == "__main__" or argv is None:
         sys.exit(int(rv))
     return int(rv)
+
+
+#: Commands whose ``--json`` takes a destination (FILE or '-'); elsewhere it is a flag (stdout).
+_JSON_TAKES_A_FILE = ("check", "lot", "replay")
+
+
+def _error_dict(message: str, code: str) -> dict[str, Any]:
+    return {"file": None, "line": None, "column": None, "message": message, "code": code}
+
+
+def _fail(args: list[str], line: str, error: dict[str, Any]) -> int:
+    """Report a failed run: one line on standard error and, when the run's JSON goes to standard
+    output, the error document there. Returns exit status 2.
+
+    A JSON *file* is left as it was (or absent): a failed run leaves nothing of its own on disk
+    and never replaces what an earlier run wrote.
+    """
+    click.echo(f"speccheck: {line}", err=True)
+    if _json_to_stdout(args):
+        from speccheck.cli.options import json_text
+
+        sys.stdout.write(json_text({"error": error}, "error"))
+    return int(ExitStatus.ERROR)
+
+
+def _json_to_stdout(args: list[str]) -> bool:
+    """Whether the run was asked for JSON on standard output (``--json -``, or the flag
+    ``--json`` of a command whose JSON always goes there)."""
+    takes_file = bool(args) and args[0] in _JSON_TAKES_A_FILE
+    for i, a in enumerate(args):
+        if a == "--":
+            break
+        if a == "--json=-" or (a.startswith("--json=") and not takes_file):
+            return True
+        if a == "--json":
+            return not takes_file or (i + 1 < len(args) and args[i + 1] == "-")
+    return False

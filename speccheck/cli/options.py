@@ -95,9 +95,27 @@ cutoff_option = click.option(
 )
 
 
-def write_json(obj: Any, dest: str) -> None:
+def json_text(doc: Any, document: str, *, strict: bool = True) -> str:
+    """One JSON document as speccheck writes it, ``schema_version`` first.
+
+    ``document`` names its schema (``speccheck schema --what DOCUMENT``); ``strict`` refuses
+    NaN and infinities, which JSON cannot carry.
+    """
+    from speccheck.schemas import SCHEMA_VERSION
+
+    if isinstance(doc, dict) and "schema_version" not in doc:
+        doc = {"schema_version": SCHEMA_VERSION, **doc}
+    return json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=not strict) + "\n"
+
+
+def echo_json(doc: Any, document: str, *, strict: bool = True) -> None:
+    """Print one JSON document (see :func:`json_text`) on standard output."""
+    click.echo(json_text(doc, document, strict=strict), nl=False)
+
+
+def write_json(obj: Any, dest: str, *, document: str) -> None:
     """Write JSON to ``dest`` ('-' = stdout) atomically: a temp file renamed into place."""
-    text = json.dumps(obj, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    text = json_text(obj, document)
     if dest == "-":
         sys.stdout.write(text)
         return

@@ -7,7 +7,6 @@ speccheck.parameters.compute.compute_parameters.
 
 from __future__ import annotations
 
-import json
 from typing import Any
 
 import click
@@ -18,6 +17,7 @@ from speccheck.cli.options import (
     cutoff_option,
     decimal_option,
     dx_option,
+    echo_json,
     format_option,
     json_flag,
 )
@@ -235,7 +235,7 @@ def command(
     src = profile.source
     out["source"] = {"path": src.path, "sha256": src.sha256, "format": src.format}
     if as_json:
-        click.echo(json.dumps(out, indent=2, ensure_ascii=False, allow_nan=False))
+        echo_json(out, "params")
     else:
         _print_table(out)
     return int(ExitStatus.CONFORMING)
@@ -308,19 +308,15 @@ def _default_cutoff(
 
 def _insufficient(file: str, res: Any, as_json: bool) -> int:
     if as_json:
-        click.echo(
-            json.dumps(
-                {
-                    "insufficient_data": {
-                        "reason": res.reason,
-                        "required_mm": res.required_mm,
-                        "available_mm": res.available_mm,
-                        "kind": res.kind,
-                    }
-                },
-                ensure_ascii=False,
-            )
-        )
+        doc = {
+            "insufficient_data": {
+                "reason": res.reason,
+                "required_mm": res.required_mm,
+                "available_mm": res.available_mm,
+                "kind": res.kind,
+            }
+        }
+        echo_json(doc, "params")
     click.echo(f"speccheck: insufficient data: {file}: {res.reason}", err=True)
     return int(ExitStatus.UNDECIDED)
 

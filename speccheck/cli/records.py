@@ -7,11 +7,9 @@ Each subcommand opens :class:`speccheck.records.store.RecordsStore` and calls on
 
 from __future__ import annotations
 
-import json
-
 import click
 
-from speccheck.cli.options import InputPath, OutputPath, db_option
+from speccheck.cli.options import InputPath, OutputPath, db_option, echo_json
 
 __all__ = ["command"]
 
@@ -47,7 +45,7 @@ def list_(
         recs = store.list(part=part, kind=kind, limit=limit)
     if as_json:
         rows = [{k: v for k, v in r.to_dict().items() if k != "result"} for r in recs]
-        click.echo(json.dumps(rows, indent=2, ensure_ascii=False))
+        echo_json({"records": rows}, "records", strict=False)
         return 0
     from rich.console import Console
     from rich.table import Table
@@ -75,7 +73,7 @@ def show(record_id: int, db: str | None) -> int:
     """Print one record as JSON (its result embedded)."""
     with _open(db) as store:
         rec = store.get(record_id)
-    click.echo(json.dumps(rec.to_dict(), indent=2, ensure_ascii=False))
+    echo_json(rec.to_dict(), "record", strict=False)
     return 0
 
 
@@ -167,7 +165,7 @@ def audit(
             res.findings.extend(bad)
             check_anchors(store.list(), anchors, res)
     if as_json:
-        click.echo(json.dumps(res.to_dict(), indent=2, ensure_ascii=False))
+        echo_json(res.to_dict(), "audit", strict=False)
     else:
         for f in res.findings:
             click.echo(f"{'TAMPERED' if f.tampering else 'note'}: {f.message}")
@@ -262,7 +260,7 @@ def trend(
     if out:
         atomic_write_text(Path(out), trend_svg(tr), role="--out")
     if as_json:
-        click.echo(json.dumps(tr.to_dict(), indent=2, ensure_ascii=False))
+        echo_json(tr.to_dict(), "trend", strict=False)
         return 0
     cap = tr.capability
     unit = f" {tr.unit}" if tr.unit else ""
@@ -311,7 +309,7 @@ def migrate(source: str, target: str, as_json: bool) -> int:
 
     res = run_migration(str(store_location(source)), str(store_location(target)))
     if as_json:
-        click.echo(json.dumps(res.to_dict(), indent=2, ensure_ascii=False))
+        echo_json(res.to_dict(), "migration", strict=False)
     else:
         state = "equal" if res.chains_equal and res.target_intact else "NOT equal"
         click.echo(

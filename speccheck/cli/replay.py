@@ -6,11 +6,9 @@ Calls :func:`speccheck.replay.replay` and, with ``--report``,
 
 from __future__ import annotations
 
-import json
-
 import click
 
-from speccheck.cli.options import InputPath, OutputPath, db_option
+from speccheck.cli.options import InputPath, OutputPath, db_option, echo_json, json_text
 
 __all__ = ["command"]
 
@@ -139,13 +137,11 @@ def command(
         )
     d = summary.to_dict()
     if json_out == "-":
-        click.echo(json.dumps(d, indent=2, ensure_ascii=False))
+        echo_json(d, "replay", strict=False)
     else:
         _print_table(d)
         if json_out:
-            atomic_write_text(
-                Path(json_out), json.dumps(d, indent=2, ensure_ascii=False) + "\n", role="--json"
-            )
+            atomic_write_text(Path(json_out), json_text(d, "replay", strict=False), role="--json")
     if report_out:
         from speccheck.replay.report import write_replay_report
 

@@ -7,12 +7,11 @@ recomputation equal (and trusted when --trust is given); 1: anything else, with 
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import click
 
-from speccheck.cli.options import InputPath
+from speccheck.cli.options import InputPath, echo_json
 
 
 def _signature_lines(s) -> list[str]:  # s: SignatureCheck
@@ -92,7 +91,7 @@ def command(report: Path, trust: tuple[Path, ...], as_json: bool) -> int:
 
     result = verify_record(report, trust=trust)
     if as_json:
-        click.echo(json.dumps(result.to_dict(), indent=2, ensure_ascii=False))
+        echo_json(result.to_dict(), "verification", strict=False)
     else:
         click.echo("\n".join(_lines(result)))
     return 0 if result.ok else 1

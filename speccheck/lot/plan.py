@@ -37,7 +37,14 @@ from typing import Any, Literal
 from speccheck.errors import InputError, SpecError
 from speccheck.lot.sampling import SamplingPlan, plan_for_level, plan_for_sample_size
 
-__all__ = ["LoadedPlan", "PlanSurface", "load_plan", "find_part_files", "DEFAULT_PATTERN"]
+__all__ = [
+    "LoadedPlan",
+    "PlanSurface",
+    "load_plan",
+    "find_part_files",
+    "plan_json_schema",
+    "DEFAULT_PATTERN",
+]
 
 DEFAULT_PATTERN = "{part_serial}/{surface}/*.csv"
 _NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]*$")
@@ -122,6 +129,14 @@ def _models():
             return v
 
     return PlanFile
+
+
+def plan_json_schema() -> dict[str, Any]:
+    """JSON Schema (draft 2020-12) of lot plan files, from the pydantic models."""
+    schema = _models().model_json_schema()
+    schema["$schema"] = "https://json-schema.org/draft/2020-12/schema"
+    schema["title"] = "speccheck lot plan file, plan_version 1"
+    return schema
 
 
 @dataclass(frozen=True)

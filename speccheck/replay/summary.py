@@ -14,11 +14,11 @@ from pathlib import Path
 from typing import Any
 
 from speccheck.replay.jobs import LotContext, ReplayJob
+from speccheck.schemas import SCHEMA_VERSION
 
 __all__ = ["Outcome", "ReplaySummary", "clopper_pearson", "combine_verdicts"]
 
 Outcome = tuple[str, str, str | None]  # (job key, verdict after, reason)
-SUMMARY_FORMAT_VERSION = 1
 
 
 def clopper_pearson(k: int, n: int, confidence: float = 0.95) -> tuple[float, float]:
@@ -136,8 +136,8 @@ class ReplaySummary:
         replayed = self.replayed()
         lots = self.lot_changes()
         return {
+            "schema_version": SCHEMA_VERSION,
             "kind": "replay",
-            "format_version": SUMMARY_FORMAT_VERSION,
             "spec": str(self.spec),
             "part": self.part,
             "scheduler": self.scheduler,

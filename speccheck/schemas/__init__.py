@@ -29,7 +29,20 @@ __all__ = ["SCHEMA_VERSION", "DOCUMENTS", "schema"]
 SCHEMA_VERSION = "2.0"
 
 #: Documents with a hand-written schema in this package.
-DOCUMENTS = ("result", "lot", "params", "error", "records")
+DOCUMENTS = (
+    "result",
+    "lot",
+    "params",
+    "error",
+    "records",
+    "record",
+    "audit",
+    "trend",
+    "verification",
+    "info",
+    "replay",
+    "migration",
+)
 
 
 def schema(name: str) -> dict[str, Any]:
