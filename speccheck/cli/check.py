@@ -7,8 +7,6 @@ a (signed) PDF conformance record, an entry in the records store.
 from __future__ import annotations
 
 import math
-import os
-import sys
 from pathlib import Path
 from typing import Any
 
@@ -16,16 +14,19 @@ import click
 
 from speccheck.cli.options import (
     InputPath,
+    color_option,
     db_option,
     decimal_option,
     dx_option,
     format_option,
     json_out_option,
     passphrase_file_option,
+    quiet_option,
     record_flag,
     report_option,
     sign_option,
     tsa_option,
+    wants_color,
     write_json,
 )
 from speccheck.errors import ExitStatus, SpeccheckError
@@ -137,6 +138,20 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
     return "".join(line.rstrip() + "\n" for line in text.splitlines())
 
 
+def verdict_line(result: Any, *, color: bool = False) -> str:
+    """``Result: VERDICT`` alone (``--quiet``), coloured when asked for."""
+    import io
+
+    from rich.console import Console
+    from rich.text import Text
+
+    console = Console(
+        file=io.StringIO(), record=True, highlight=False, force_terminal=color, no_color=not color
+    )
+    console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
+    return console.export_text(styles=color).rstrip() + "\n"
+
+
 @click.command(name="check")
 @click.argument("spec", type=InputPath("specification"))
 @click.argument("profiles", nargs=-1, required=True, type=InputPath("profile"))
@@ -150,6 +165,8 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
 @tsa_option
 @record_flag
 @db_option
+@color_option
+@quiet_option
 def command(
     spec: str,
     profiles: tuple[str, ...],
@@ -163,6 +180,8 @@ def command(
     tsa_url: str | None,
     record: bool,
     db: str | None,
+    color: str,
+    quiet: bool,
 ) -> int:
     """Check measured PROFILES against the specification file SPEC.
 
@@ -187,9 +206,13 @@ def command(
     result = evaluate(loaded, measured)
     if json_out is not None:
         write_json(result.to_dict(), json_out, document="result")
+    talk = json_out != "-" and not quiet  # lines beyond the verdict
     if json_out != "-":
-        color = sys.stdout.isatty() and "NO_COLOR" not in os.environ
-        click.echo(render_table(result, color=color), nl=False)
+        coloured = wants_color(color)
+        text = (
+            verdict_line(result, color=coloured) if quiet else render_table(result, color=coloured)
+        )
+        click.echo(text, nl=False, color=coloured)  # click strips colour off a pipe otherwise
     report_sha256 = signer = None
     if report_out:
         options = {"fmt": fmt, "dx": dx, "decimal": decimal, "tsa_url": tsa_url}
@@ -199,14 +222,14 @@ def command(
         )
         report_sha256 = getattr(info, "sha256", None)
         signer = getattr(info, "signer", None)
-        if json_out != "-":
+        if talk:
             click.echo(
                 f"Conformance record written: {report_out}"
                 + (f" (signed by {signer})" if signer else " (not signed)")
             )
     if record:
         rid = _append_record(result, db, report_sha256, signer)
-        if json_out != "-":
+        if talk:
             click.echo(f"Recorded as entry {rid} in the records store.")
     return int(EXIT[result.verdict])
 

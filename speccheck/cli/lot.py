@@ -11,6 +11,7 @@ from speccheck.cli.options import (
     db_option,
     json_out_option,
     passphrase_file_option,
+    quiet_option,
     record_flag,
     report_option,
     sign_option,
@@ -74,6 +75,7 @@ def _chain_head(db: str | None) -> dict:
     default=None,
     help="Worker processes (default: all cores).",
 )
+@quiet_option
 def command(
     plan: str,
     data_dir: str,
@@ -85,6 +87,7 @@ def command(
     record: bool,
     db: str | None,
     workers: int | None,
+    quiet: bool,
 ) -> int:
     """Evaluate every sampled part of a lot and accept or reject the lot.
 
@@ -145,10 +148,12 @@ def command(
         with RecordsStore.open(default_db_path(db)) as store:
             rid = store.append_lot(result, report_sha256=report_sha256, signer=signer)
             where = store.location  # a server URL arrives here without its password
-        click.echo(f"recorded as record {rid} in {where}", err=True)
+        if not quiet:
+            click.echo(f"recorded as record {rid} in {where}", err=True)
     lot = result.lot
     if json_out != "-":
         click.echo(f"{lot['part']} lot {lot['id']}: {result.disposition.upper()} — {result.reason}")
+    if json_out != "-" and not quiet:
         for part in result.parts:
             click.echo(f"  {part.serial:<16} {part.verdict}")
         if result.remeasure:

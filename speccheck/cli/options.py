@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import os
 import sys
 from pathlib import Path
 from typing import Any
@@ -93,6 +94,26 @@ columns_option = click.option(
 cutoff_option = click.option(
     "--cutoff", default=None, metavar="LENGTH", help="Cut-off λc, e.g. 0.8mm."
 )
+
+
+color_option = click.option(
+    "--color",
+    type=click.Choice(["auto", "always", "never"]),
+    default="auto",
+    show_default=True,
+    help="Colour in the verdict table: auto = only on a terminal and without $NO_COLOR.",
+)
+quiet_option = click.option(
+    "-q", "--quiet", is_flag=True, help="Print only the verdict line (the exit status says it too)."
+)
+
+
+def wants_color(choice: str) -> bool:
+    """Whether to colour standard output: ``--color always|never``, else a terminal without
+    ``NO_COLOR`` set to a non-empty value (the no-color.org convention)."""
+    if choice != "auto":
+        return choice == "always"
+    return sys.stdout.isatty() and not os.environ.get("NO_COLOR")
 
 
 def json_text(doc: Any, document: str, *, strict: bool = True) -> str:

@@ -91,7 +91,7 @@ def _scale(role: str, unit: str | None, label: str, *, path: str, where: str) ->
 def _cells(cells: list[str]) -> list[tuple[str, str | None]]:
     """(lower-case name, unit) per header cell; a cell that is not ``name [unit]`` keeps its
     whole text as the name."""
-    out = []
+    out: list[tuple[str, str | None]] = []
     for cell in cells:
         m = _CELL.match(cell)
         if m is None:
