@@ -26,7 +26,7 @@ from speccheck.spec._yaml import (
 from speccheck.spec.models import SpecFile, model_at
 from speccheck.spec.requirement import LoadedSpec, Requirement
 
-__all__ = ["load_spec", "check_spec", "SpecCheck", "LoadedSpec", "Requirement"]
+__all__ = ["load_spec", "check_spec", "check_spec_bytes", "SpecCheck", "LoadedSpec", "Requirement"]
 
 _TAGS = ("callout", "fields")  # discriminator tags of a requirement in pydantic error locations
 
@@ -137,12 +137,21 @@ def check_spec(path: str | Path) -> SpecCheck:
     not hide an error in the next requirement.
     """
     p = str(path)
-    result = SpecCheck(path=p, spec=None)
     try:
         raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="specification", error=SpecError)
     except SpeccheckError as exc:  # I/O errors keep their message; the list holds SpecErrors
+        err = exc if isinstance(exc, SpecError) else SpecError(exc.message, path=p, where=exc.where)
+        return SpecCheck(path=p, spec=None, errors=[err])
+    return check_spec_bytes(raw, p)
+
+
+def check_spec_bytes(raw: bytes, name: str) -> SpecCheck:
+    """:func:`check_spec` of a specification's bytes held in memory; errors name ``name``."""
+    p = name
+    result = SpecCheck(path=p, spec=None)
+    if len(raw) > MAX_SPEC_BYTES:
         result.errors.append(
-            exc if isinstance(exc, SpecError) else SpecError(exc.message, path=p, where=exc.where)
+            SpecError(f"larger than {MAX_SPEC_BYTES} bytes: not a specification", path=p)
         )
         return result
     try:
