@@ -79,6 +79,18 @@ def embed_files(pdf_bytes: bytes, files: Sequence[EmbeddedFile]) -> bytes:
     return out.getvalue()
 
 
+def _quiet_pypdf() -> None:
+    """Keep pypdf's repair notes ("EOF marker not found") off standard error: a damaged file
+    is reported once, as an error naming it, or read as it is."""
+    import logging
+
+    logger = logging.getLogger("pypdf")
+    logger.setLevel(logging.ERROR)
+    if not logger.handlers:
+        logger.addHandler(logging.NullHandler())
+    logger.propagate = False
+
+
 def read_embedded_files(pdf_bytes: bytes, *, path: str | None = None) -> dict[str, bytes]:
     """The files attached to a PDF, name -> bytes (the first one when a name repeats).
 
@@ -94,6 +106,7 @@ def read_embedded_files(pdf_bytes: bytes, *, path: str | None = None) -> dict[st
 
     if not pdf_bytes.startswith(b"%PDF-"):
         raise ReportError("not a PDF file (no %PDF- header)", path=path, where="byte 0")
+    _quiet_pypdf()
     try:
         reader = PdfReader(BytesIO(pdf_bytes), strict=False)
         attachments = reader.attachments

@@ -174,7 +174,9 @@ def _trust_roots(trust: Sequence[Path]) -> list[Any]:
     roots = []
     for p in trust:
         try:
-            roots.append(load_cert_from_pemder(str(p)))
+            cert = load_cert_from_pemder(str(p))
+            cert.native  # asn1crypto parses lazily: a key or garbage fails here, not later
+            roots.append(cert)
         except Exception as exc:  # OSError or a parse error from asn1crypto
             raise ReportError(
                 f"cannot read the certificate: {' '.join(str(exc).split()) or type(exc).__name__}",
@@ -320,6 +322,19 @@ def _safe_name(name: str, fallback: str) -> str:
     return base if base not in ("", ".", "..") else fallback
 
 
+def _json_object(files: dict[str, bytes], name: str, path: Path) -> dict[str, Any]:
+    """The attachment ``name`` read as one JSON object, else an error naming file and attachment."""
+    try:
+        value = json.loads(files[name])
+        if not isinstance(value, dict):
+            raise TypeError(f"a JSON object is expected, not {type(value).__name__}")
+    except (ValueError, TypeError) as exc:
+        raise ReportError(
+            f"the attachment is not valid: {exc}", path=str(path), where=f"attachment {name}"
+        ) from exc
+    return value
+
+
 def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
     """Check a conformance record's signature and recompute its result from its attachments.
 
@@ -351,9 +366,9 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
         raise ReportError(
             "not a speccheck conformance record (no attached result and manifest)", path=str(path)
         )
+    manifest = _json_object(files, MANIFEST_NAME, path)
+    recorded = _json_object(files, RESULT_NAME, path)
     try:
-        manifest = json.loads(files[MANIFEST_NAME])
-        recorded = json.loads(files[RESULT_NAME])
         if manifest.get("kind") != MANIFEST_KIND:
             raise ValueError(f"unknown manifest kind {manifest.get('kind')!r}")
         spec_entry = manifest["spec"]
@@ -361,7 +376,7 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
         read_options = dict(manifest.get("read_options") or {})
     except (ValueError, KeyError, TypeError) as exc:
         raise ReportError(
-            f"the attached manifest or result is not valid: {exc}",
+            f"the attached manifest is not valid: {exc}",
             path=str(path),
             where=f"attachment {MANIFEST_NAME}",
         ) from exc
