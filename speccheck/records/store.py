@@ -310,15 +310,19 @@ class RecordsStore:
             raise RecordsError("no records store here (nothing has been recorded yet)", path=str(p))
         if not p.exists() and not p.parent.is_dir() and str(p.parent):
             raise RecordsError(f"folder {str(p.parent)!r} does not exist", path=str(p))
+        existed = p.exists()
         try:
             conn = sqlite3.connect(p, timeout=BUSY_TIMEOUT_S, isolation_level=None)
         except sqlite3.Error as exc:
-            raise RecordsError(f"cannot open the records store ({exc})", path=str(p)) from None
+            raise _sqlite_error(exc, p, "cannot open the records store") from None
         store = cls(p, conn)
         try:
             store._prepare(create=create)
         except BaseException:
             conn.close()
+            if not existed:  # a store this run began to make is not left half-made
+                for leftover in (p, Path(f"{p}-wal"), Path(f"{p}-shm"), Path(f"{p}-journal")):
+                    leftover.unlink(missing_ok=True)
             raise
         return store
 
@@ -326,10 +330,8 @@ class RecordsStore:
         c = self._conn
         try:
             tables = {r[0] for r in c.execute("SELECT name FROM sqlite_master WHERE type='table'")}
-        except sqlite3.DatabaseError:
-            raise RecordsError(
-                "not a speccheck records store (not an SQLite database)", path=str(self.path)
-            ) from None
+        except sqlite3.Error as exc:
+            raise _sqlite_error(exc, self.path, "cannot read the records store") from None
         if tables and "meta" not in tables:
             raise RecordsError(
                 "not a speccheck records store (an SQLite database of something else)",
@@ -360,9 +362,7 @@ class RecordsStore:
                     raise
             meta = dict(c.execute("SELECT key, value FROM meta").fetchall())
         except sqlite3.Error as exc:
-            raise RecordsError(
-                f"cannot read the records store ({exc})", path=str(self.path)
-            ) from None
+            raise _sqlite_error(exc, self.path, "cannot read the records store") from None
         if meta.get("format") != STORE_FORMAT or "records" not in {
             r[0] for r in c.execute("SELECT name FROM sqlite_master WHERE type='table'")
         }:
@@ -424,9 +424,7 @@ class RecordsStore:
         try:
             c.execute("BEGIN IMMEDIATE")
         except sqlite3.Error as exc:
-            raise RecordsError(
-                f"cannot write to the records store ({exc})", path=str(self.path)
-            ) from None
+            raise _sqlite_error(exc, self.path, "cannot write to the records store") from None
         try:
             last = c.execute(
                 "SELECT id, record_hash FROM records ORDER BY id DESC LIMIT 1"
@@ -455,9 +453,7 @@ class RecordsStore:
                 c.execute("ROLLBACK")
                 raise
         except sqlite3.Error as exc:
-            raise RecordsError(
-                f"cannot write to the records store ({exc})", path=str(self.path)
-            ) from None
+            raise _sqlite_error(exc, self.path, "cannot write to the records store") from None
 
     def append_check(
         self,
@@ -518,9 +514,7 @@ class RecordsStore:
             for row in self._conn.execute(sql, params):
                 yield _row_to_record(row)
         except sqlite3.Error as exc:
-            raise RecordsError(
-                f"cannot read the records store ({exc})", path=str(self.path)
-            ) from None
+            raise _sqlite_error(exc, self.path, "cannot read the records store") from None
 
     def list(
         self,
@@ -727,6 +721,39 @@ class RecordsStore:
         except sqlite3.DatabaseError as exc:
             return [f"cannot run ({exc})"]
         return [] if rows == ["ok"] else rows
+
+
+#: SQLite result codes (sqlite.org/rescode.html) that are the file's or the disk's condition.
+_SQLITE_REASONS = {
+    13: "no space left on the device (or the database is full)",  # SQLITE_FULL
+    8: "read-only: the file or its folder cannot be written",  # SQLITE_READONLY
+    3: "permission denied",  # SQLITE_PERM
+    23: "permission denied",  # SQLITE_AUTH
+    14: "the file or its folder cannot be opened",  # SQLITE_CANTOPEN
+    10: "input/output error of the device",  # SQLITE_IOERR
+}
+
+
+def _sqlite_error(exc: sqlite3.Error, path: Path, doing: str) -> RecordsError:
+    """One line for an SQLite failure: a file that is not SQLite says so, a full disk says so."""
+    code = getattr(exc, "sqlite_errorcode", None)
+    primary = code & 0xFF if isinstance(code, int) else None
+    if primary in (26, 11):  # SQLITE_NOTADB, SQLITE_CORRUPT
+        what = "not an SQLite database" if primary == 26 else f"damaged database: {exc}"
+        return RecordsError(f"not a speccheck records store ({what})", path=str(path))
+    reason = _SQLITE_REASONS.get(primary or -1) or str(exc)
+    if primary in (10, 13, 14) and _no_space_left(path):
+        reason = "no space left on the device"
+    return RecordsError(f"{doing}: {reason}", path=str(path))
+
+
+def _no_space_left(path: Path) -> bool:
+    """True when the file system holding ``path`` has no block left for this user."""
+    try:
+        st = os.statvfs(path.parent if not path.exists() else path)
+    except OSError:
+        return False
+    return st.f_bavail == 0
 
 
 def _next_id(record_id: Any, expected: int) -> int:
