@@ -742,18 +742,26 @@ def _sqlite_error(exc: sqlite3.Error, path: Path, doing: str) -> RecordsError:
         what = "not an SQLite database" if primary == 26 else f"damaged database: {exc}"
         return RecordsError(f"not a speccheck records store ({what})", path=str(path))
     reason = _SQLITE_REASONS.get(primary or -1) or str(exc)
-    if primary in (10, 13, 14) and _no_space_left(path):
-        reason = "no space left on the device"
+    if primary in (8, 10, 13, 14):
+        reason = _disk_reason(path) or reason
     return RecordsError(f"{doing}: {reason}", path=str(path))
 
 
-def _no_space_left(path: Path) -> bool:
-    """True when the file system holding ``path`` has no block left for this user."""
+def _disk_reason(path: Path) -> str | None:
+    """What of the file system explains a failure on ``path``: full, read-only, or not
+    writable by this user (SQLite's own codes do not tell these apart); None if none."""
+    here = path if path.exists() else path.parent
     try:
-        st = os.statvfs(path.parent if not path.exists() else path)
+        st = os.statvfs(here)
     except OSError:
-        return False
-    return st.f_bavail == 0
+        return None
+    if st.f_flag & os.ST_RDONLY:
+        return "read-only file system"
+    if st.f_bavail == 0:
+        return "no space left on the device"
+    if not os.access(here, os.W_OK):
+        return "permission denied"
+    return None
 
 
 def _next_id(record_id: Any, expected: int) -> int:
