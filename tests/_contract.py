@@ -54,4 +54,5 @@ def run_speccheck(args, *, cwd=None, env=None, limits=None, timeout=120):
         timeout=timeout,
         preexec_fn=preexec if limits else None,
     )
+    assert "internal error" not in proc.stderr, proc.stderr  # a bug, never input's fault
     return proc.returncode, proc.stdout, proc.stderr

@@ -63,6 +63,7 @@ def run_cli(capsys):
     def run(*args: str) -> tuple[int, str, str]:
         status = main([str(a) for a in args])
         captured = capsys.readouterr()
+        assert "internal error" not in captured.err, captured.err  # a bug, never input's fault
         return status, captured.out, captured.err
 
     return run
@@ -82,3 +83,17 @@ def postgres_server():
 def pg_url(postgres_server) -> str:
     """URL of a fresh, empty database on the throwaway server."""
     return postgres_server.new_database()
+
+
+def pytest_terminal_summary(terminalreporter):
+    """Figures of the fuzz suite (cases per target: accepted, refused with a named error)."""
+    import sys
+
+    fuzz = sys.modules.get("_fuzz")
+    if fuzz is None or not fuzz.COUNTS:
+        return
+    terminalreporter.section("fuzz cases")
+    for target, (ok, refused) in sorted(fuzz.COUNTS.items()):
+        terminalreporter.write_line(
+            f"{target:10s} {ok + refused:7d} cases: {ok} read, {refused} refused with the file named"
+        )
