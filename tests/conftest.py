@@ -95,5 +95,5 @@ def pytest_terminal_summary(terminalreporter):
     terminalreporter.section("fuzz cases")
     for target, (ok, refused) in sorted(fuzz.COUNTS.items()):
         terminalreporter.write_line(
-            f"{target:10s} {ok + refused:7d} cases: {ok} read, {refused} refused with the file named"
+            f"{target:10s} {ok + refused:7d} cases: {ok} read, {refused} refused naming the file"
         )

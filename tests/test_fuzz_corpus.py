@@ -31,7 +31,10 @@ HANDMADE = {
 HOSTILE_SPECS = {
     "deep.yaml": b"a: " + b"[" * 500 + b"]" * 500 + b"\n",
     "laughs.yaml": b'a: &a ["x","x","x","x"]\n'
-    + b"".join(f"{c}: &{c} [*{p},*{p},*{p},*{p}]\n".encode() for p, c in zip("abcdefg", "bcdefgh")),
+    + b"".join(
+        f"{c}: &{c} [*{p},*{p},*{p},*{p}]\n".encode()
+        for p, c in zip("abcdefg", "bcdefgh", strict=True)
+    ),
     "tabs.yaml": b"spec_version: 1\n\tpart: x\n",
     "nul.yaml": b"spec_version: 1\x00\n",
     "surrogate.yaml": b'spec_version: 1\npart: {number: "\\ud800"}\n',
@@ -84,8 +87,8 @@ def test_profile_corpus_through_info(run_cli, tmp_path, name):
     p = tmp_path / name
     p.write_bytes(corpus()[name])
     before = fingerprint([p])
-    status, _, err = run_cli("info", p, "--dx", "0.5um") if name.endswith(".csv") else run_cli(
-        "info", p
+    status, _, err = (
+        run_cli("info", p, "--dx", "0.5um") if name.endswith(".csv") else run_cli("info", p)
     )
     _holds(status, err, p)
     assert fingerprint([p]) == before

@@ -12,7 +12,7 @@ import io
 import zipfile
 
 import numpy as np
-from _fuzz import FUZZ, NUMBER_TEXT, hostile_file, holds_contract, mutated
+from _fuzz import FUZZ, NUMBER_TEXT, holds_contract, hostile_file, mutated
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -40,11 +40,11 @@ def delimited_text(draw: st.DrawFn) -> bytes:
     """A header (or none), rows of number-like text, mixed separators and line ends."""
     sep = draw(st.sampled_from([",", ";", "\t", " ", "  "]))
     header = draw(
-        st.sampled_from(["", "x,z\n", "x [mm];z [um]\n", "z\n", "x\tz\tflag\n", "# c\n\n", "z [nm]\n"])
+        st.sampled_from(
+            ["", "x,z\n", "x [mm];z [um]\n", "z\n", "x\tz\tflag\n", "# c\n\n", "z [nm]\n"]
+        )
     )
-    rows = draw(
-        st.lists(st.lists(NUMBER_TEXT, min_size=1, max_size=4), min_size=0, max_size=300)
-    )
+    rows = draw(st.lists(st.lists(NUMBER_TEXT, min_size=1, max_size=4), min_size=0, max_size=300))
     end = draw(st.sampled_from(["\n", "\r\n", "\r"]))
     text = header + end.join(sep.join(r) for r in rows)
     return text.encode(draw(st.sampled_from(["utf-8", "utf-16", "latin-1"])), "replace")
@@ -117,8 +117,8 @@ def _seed_sdf() -> bytes:
 
 
 SEED_SDF = _seed_sdf()
-SDF_KEYS = ["Version", "NumPoints", "NumProfiles", "Xscale", "Yscale", "Zscale", "Zresolution",
-            "Compression", "DataType", "CheckType", "ManufacID", "CreateDate", "ModDate"]  # fmt: skip
+SDF_KEYS = "Version NumPoints NumProfiles Xscale Yscale Zscale Zresolution Compression DataType \
+CheckType ManufacID CreateDate ModDate".split()
 
 
 @st.composite

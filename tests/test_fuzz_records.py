@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from _fuzz import EXAMPLES, FUZZ, hostile_file, holds_contract, mutated
+from _fuzz import EXAMPLES, FUZZ, holds_contract, hostile_file, mutated
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -20,7 +20,6 @@ from speccheck.profile import Profile
 from speccheck.readers import write_csv
 from speccheck.report import new_key, verify_report, write_report
 from speccheck.report.pdf import EmbeddedFile, embed_files, read_embedded_files, render_pdf
-from speccheck.report.writer import MANIFEST_NAME, RESULT_NAME
 from speccheck.spec.loader import load_spec
 
 PASS = b"kestrel-fuzz-pass"

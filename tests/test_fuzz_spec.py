@@ -7,7 +7,7 @@ from __future__ import annotations
 from pathlib import Path
 
 import yaml
-from _fuzz import FUZZ, NUMBER_TEXT, hostile_file, holds_contract, mutated
+from _fuzz import FUZZ, NUMBER_TEXT, holds_contract, hostile_file, mutated
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -48,9 +48,7 @@ def spec_documents(draw: st.DrawFn) -> bytes:
         "spec_version": draw(st.sampled_from([1, 2, "1", None, True])),
         "part": draw(
             st.one_of(
-                st.fixed_dictionaries(
-                    {"number": SCALARS, "revision": SCALARS, "surface": SCALARS}
-                ),
+                st.fixed_dictionaries({"number": SCALARS, "revision": SCALARS, "surface": SCALARS}),
                 VALUES,
             )
         ),

@@ -734,7 +734,7 @@ _SQLITE_REASONS = {
 }
 
 
-def _sqlite_error(exc: sqlite3.Error, path: Path, doing: str) -> RecordsError:
+def _sqlite_error(exc: sqlite3.Error, path: str | os.PathLike[str], doing: str) -> RecordsError:
     """One line for an SQLite failure: a file that is not SQLite says so, a full disk says so."""
     code = getattr(exc, "sqlite_errorcode", None)
     primary = code & 0xFF if isinstance(code, int) else None
@@ -743,7 +743,7 @@ def _sqlite_error(exc: sqlite3.Error, path: Path, doing: str) -> RecordsError:
         return RecordsError(f"not a speccheck records store ({what})", path=str(path))
     reason = _SQLITE_REASONS.get(primary or -1) or str(exc)
     if primary in (8, 10, 13, 14):
-        reason = _disk_reason(path) or reason
+        reason = _disk_reason(Path(path)) or reason
     return RecordsError(f"{doing}: {reason}", path=str(path))
 
 

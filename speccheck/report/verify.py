@@ -175,7 +175,7 @@ def _trust_roots(trust: Sequence[Path]) -> list[Any]:
     for p in trust:
         try:
             cert = load_cert_from_pemder(str(p))
-            cert.native  # asn1crypto parses lazily: a key or garbage fails here, not later
+            _ = cert.native  # asn1crypto parses lazily: a key or garbage fails here, not later
             roots.append(cert)
         except Exception as exc:  # OSError or a parse error from asn1crypto
             raise ReportError(
