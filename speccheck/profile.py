@@ -13,6 +13,7 @@ import numpy as np
 __all__ = [
     "Profile",
     "SourceInfo",
+    "InstrumentMeta",
     "DropoutReport",
     "MAX_DROPOUT_RUN_POINTS",
     "MAX_DROPOUT_RUN_UM",
@@ -28,15 +29,37 @@ MAX_DROPOUT_RUN_UM = 10.0
 
 
 @dataclass(frozen=True)
+class InstrumentMeta:
+    """The instrument identity a profile file states, field by field, as written in it.
+
+    ``calibration_date`` is an ISO 8601 date (YYYY-MM-DD) when the file gives one. Every field
+    is None when the file does not say.
+    """
+
+    id: str | None = None
+    manufacturer: str | None = None
+    model: str | None = None
+    serial: str | None = None
+    version: str | None = None
+    probing_system: str | None = None
+    calibration_date: str | None = None
+
+    def stated(self) -> dict[str, str]:
+        """The fields the file states, in field order."""
+        return {k: v for k, v in self.__dict__.items() if v}
+
+
+@dataclass(frozen=True)
 class SourceInfo:
     """Where a profile came from."""
 
     path: str | None = None
     sha256: str | None = None
     format: str | None = None  # "csv", "x3p", "sdf", "demo", ...
-    instrument: str | None = None
+    instrument: str | None = None  # the identity as one line of text, for people
     date: str | None = None
     comment: str | None = None
+    instrument_meta: InstrumentMeta = field(default_factory=InstrumentMeta)
 
 
 @dataclass(frozen=True)

@@ -145,3 +145,19 @@ def test_unwritable_output_fails_before_anything_is_written(
     assert (status, out) == (2, "")
     assert err == f"speccheck: error: {bad}: folder '{bad.parent}' does not exist\n"
     assert not db.exists() and not out_json.exists()
+
+
+def test_lot_identity_on_every_part_and_serial_refused(run_cli, reject_lot: Path):
+    """Each part's record carries its folder's serial and the stated operator and order."""
+    data = reject_lot.parent / "data"
+    args = ("lot", reject_lot, "--data", data, "--json", "-", "--operator", "A. Bench")
+    status, out, _ = run_cli(*args, "--order", "PO-77")
+    assert status == 1
+    for part in json.loads(out)["parts"]:
+        for check in part["surfaces"].values():
+            ident = check["identity"]
+            assert (ident["serial"], ident["operator"]) == (part["serial"], "A. Bench")
+            assert ident["order"] == "PO-77"
+    status, _, err = run_cli("lot", reject_lot, "--data", data, "--serial", "S-01")
+    assert status == 2
+    assert "--serial is for check" in err

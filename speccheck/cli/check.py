@@ -19,19 +19,21 @@ from speccheck.cli.options import (
     decimal_option,
     dx_option,
     format_option,
+    identity_options,
     json_out_option,
     passphrase_file_option,
     quiet_option,
     record_flag,
     report_option,
     sign_option,
+    stated_identity,
     tsa_option,
     wants_color,
     write_json,
 )
 from speccheck.errors import ExitStatus, SpeccheckError
 
-__all__ = ["command", "render_table", "CAUTION"]
+__all__ = ["command", "render_table", "identity_lines", "CAUTION"]
 
 EXIT = {
     "conforming": ExitStatus.CONFORMING,
@@ -70,6 +72,37 @@ def _values_text(req: Any) -> str:
     if late:  # ISO 4288 5.2: measured after the step procedure had decided, not counted
         text += "; after the decision: " + ", ".join(late)
     return text
+
+
+def identity_lines(identity: dict[str, Any]) -> list[str]:
+    """Part serial, operator, order, note, instrument and calibration, one line each."""
+    from speccheck.evaluation.identity import OUT_OF_CALIBRATION
+
+    shown = [("Part serial", "serial"), ("Operator", "operator"), ("Order", "order")]
+    lines = [f"{label}: {identity[k]}" for label, k in shown if identity.get(k)]
+    inst = identity.get("instrument")
+    if inst:
+        make = " ".join(str(inst[k]) for k in ("manufacturer", "model") if inst.get(k))
+        extra = ", ".join(
+            f"{label} {inst[k]}"
+            for label, k in (
+                ("serial", "serial"),
+                ("version", "version"),
+                ("probe", "probing_system"),
+            )
+            if inst.get(k)
+        )
+        head = inst.get("id") or make or "instrument"
+        rest = ", ".join(x for x in ((make if inst.get("id") else ""), extra) if x)
+        lines.append(f"Instrument: {head}" + (f" ({rest})" if rest else ""))
+        lines += [f"   Warning: {w}" for w in inst.get("warnings") or []]
+    cal = identity.get("calibration") or {}
+    if cal.get("text") and (inst or cal.get("status") != "not-checked"):
+        mark = "UNDECIDED: " if cal.get("status") in OUT_OF_CALIBRATION else ""
+        lines.append(f"Calibration: {mark}{cal['text']}")
+    if identity.get("note"):
+        lines.append(f"Note: {identity['note']}")
+    return lines
 
 
 def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
@@ -119,6 +152,8 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
         values = _values_text(req) + (unit if any(v.value is not None for v in req.values) else "")
         table.add_row(str(i), req.text, values, rule, verdict)
     console.print(table)
+    for line in identity_lines(getattr(result, "identity", None) or {}):
+        console.print(line)
     console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
     for i, req in enumerate(result.requirements, start=1):
         console.print(f"#{i} {req.verdict}: {req.explanation}")
@@ -167,6 +202,7 @@ def verdict_line(result: Any, *, color: bool = False) -> str:
 @db_option
 @color_option
 @quiet_option
+@identity_options()
 def command(
     spec: str,
     profiles: tuple[str, ...],
@@ -182,6 +218,11 @@ def command(
     db: str | None,
     color: str,
     quiet: bool,
+    serial: str | None,
+    operator: str | None,
+    order: str | None,
+    note: str | None,
+    instrument_path: str | None,
 ) -> int:
     """Check measured PROFILES against the specification file SPEC.
 
@@ -202,8 +243,12 @@ def command(
         raise SpeccheckError("--db needs --record")
     from speccheck.evaluation.evaluator import evaluate, load_inputs
 
-    loaded, measured = load_inputs(spec, list(profiles), fmt=fmt, dx=dx, decimal=decimal)
-    result = evaluate(loaded, measured)
+    stated = stated_identity(serial=serial, operator=operator, order=order, note=note)
+    loaded, measured = load_inputs(
+        spec, list(profiles), fmt=fmt, dx=dx, decimal=decimal, stated=stated
+    )
+    instrument = _instrument(instrument_path)
+    result = evaluate(loaded, measured, instrument=instrument, stated=stated)
     if json_out is not None:
         write_json(result.to_dict(), json_out, document="result")
     talk = json_out != "-" and not quiet  # lines beyond the verdict
@@ -218,7 +263,15 @@ def command(
         options = {"fmt": fmt, "dx": dx, "decimal": decimal, "tsa_url": tsa_url}
         head = _chain_head(db) if (record and sign_p12) else None
         info = _write_report(
-            result, loaded, profiles, report_out, sign_p12, passphrase_file, options, head
+            result,
+            loaded,
+            profiles,
+            report_out,
+            sign_p12,
+            passphrase_file,
+            options,
+            head,
+            instrument,
         )
         report_sha256 = getattr(info, "sha256", None)
         signer = getattr(info, "signer", None)
@@ -234,6 +287,14 @@ def command(
     return int(EXIT[result.verdict])
 
 
+def _instrument(path: str | None) -> Any:
+    if path is None:
+        return None
+    from speccheck.instrument import load_instrument
+
+    return load_instrument(path)
+
+
 def _chain_head(db) -> Any:
     """The store's head now: the signed record carries it, anchoring the chain outside."""
     from speccheck.records.store import RecordsStore, default_db_path
@@ -242,7 +303,9 @@ def _chain_head(db) -> Any:
         return store.chain_head()
 
 
-def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, options, head) -> Any:
+def _write_report(
+    result, loaded, profiles, out, sign_p12, passphrase_file, options, head, instrument
+) -> Any:
     try:
         from speccheck.report import write_report  # type: ignore[attr-defined]
     except ImportError:
@@ -265,6 +328,7 @@ def _write_report(result, loaded, profiles, out, sign_p12, passphrase_file, opti
         read_options={k: v for k, v in options.items() if k != "tsa_url"},
         tsa_url=options.get("tsa_url"),
         chain_head=head,
+        instrument=instrument,
     )
 
 

@@ -9,12 +9,14 @@ import click
 from speccheck.cli.options import (
     InputPath,
     db_option,
+    identity_options,
     json_out_option,
     passphrase_file_option,
     quiet_option,
     record_flag,
     report_option,
     sign_option,
+    stated_identity,
     tsa_option,
     write_json,
 )
@@ -76,6 +78,7 @@ def _chain_head(db: str | None) -> dict:
     help="Worker processes (default: all cores).",
 )
 @quiet_option
+@identity_options(lot=True)
 def command(
     plan: str,
     data_dir: str,
@@ -88,6 +91,11 @@ def command(
     db: str | None,
     workers: int | None,
     quiet: bool,
+    serial: str | None,
+    operator: str | None,
+    order: str | None,
+    note: str | None,
+    instrument_path: str | None,
 ) -> int:
     """Evaluate every sampled part of a lot and accept or reject the lot.
 
@@ -109,10 +117,29 @@ def command(
     for out in (report_out, json_out):
         if out and out != "-" and not Path(out).resolve().parent.is_dir():
             raise SpeccheckError(f"folder {str(Path(out).parent)!r} does not exist", path=out)
+    if serial is not None:
+        raise SpeccheckError(
+            "--serial is for check: in a lot each part's serial is its folder's name "
+            "({part_serial} in the plan's data.pattern)"
+        )
+    stated = stated_identity(operator=operator, order=order, note=note).to_dict()
     loaded = load_plan(plan)
+    plan_order = loaded.lot.get("order")
+    if order and plan_order and order.strip() != str(plan_order):
+        raise SpeccheckError(
+            f"--order {order!r} differs from the plan's lot.order {plan_order!r}", path=plan
+        )
+    stated["order"] = stated["order"] or plan_order
     report, stop = _progress_callback()
     try:
-        result = inspect_lot(loaded, data_dir, workers=workers, progress=report)
+        result = inspect_lot(
+            loaded,
+            data_dir,
+            workers=workers,
+            progress=report,
+            stated=stated,
+            instrument_path=instrument_path,
+        )
     finally:
         stop()
     report_sha256 = signer = None

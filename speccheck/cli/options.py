@@ -186,3 +186,45 @@ db_option = click.option(
     help="Records store: a file (SQLite) or postgresql://... "
     "(default: $SPECCHECK_DB, else speccheck-records.sqlite here).",
 )
+
+
+def identity_options(*, lot: bool = False) -> Any:
+    """``--serial``, ``--operator``, ``--order``, ``--note``, ``--instrument`` (check and lot)."""
+    serial_help = (
+        "Not for a lot: each part's serial comes from its folder ({part_serial} in the plan)."
+        if lot
+        else "Serial number of the part measured."
+    )
+    options = [
+        click.option("--serial", default=None, metavar="TEXT", help=serial_help),
+        click.option("--operator", default=None, metavar="NAME", help="Who measured."),
+        click.option("--order", default=None, metavar="TEXT", help="Purchase order or lot number."),
+        click.option("--note", default=None, metavar="TEXT", help="A note for the record."),
+        click.option(
+            "--instrument",
+            "instrument_path",
+            default=None,
+            metavar="FILE.yaml",
+            type=InputPath("instrument file"),
+            help="Instrument file: identity and calibration of the instrument that measured "
+            "(and the data for 'uncertainty: estimate').",
+        ),
+    ]
+
+    def decorate(f: Any) -> Any:
+        for option in reversed(options):
+            f = option(f)
+        return f
+
+    return decorate
+
+
+def stated_identity(**fields: str | None) -> Any:
+    """The identity stated on the command line, blanks refused (a record never says '')."""
+    from speccheck.errors import SpeccheckError
+    from speccheck.evaluation.identity import Stated
+
+    for name, value in fields.items():
+        if value is not None and not value.strip():
+            raise SpeccheckError(f"--{name} is empty", where=f"option --{name}")
+    return Stated(**{k: (v.strip() if v else None) for k, v in fields.items()})

@@ -53,6 +53,7 @@ from speccheck.evaluation.rules import RuleOutcome, Sampling, apply_rule, combin
 from speccheck.spec.requirement import rule_words, rules_standard
 
 if TYPE_CHECKING:
+    from speccheck.evaluation.identity import Stated
     from speccheck.instrument.loader import LoadedInstrument
     from speccheck.parameters.compute import InsufficientData, ParameterSet
     from speccheck.parameters.conditions import Conditions
@@ -603,6 +604,32 @@ def _attach_diagnostics(
         )
 
 
+def _parse_time(created: str) -> datetime | None:
+    """The evaluation time from its ISO 8601 text ('Z' or an offset; naive taken as UTC)."""
+    try:
+        t = datetime.fromisoformat(created.replace("Z", "+00:00"))
+    except ValueError:
+        return None
+    return t if t.tzinfo else t.replace(tzinfo=UTC)
+
+
+def _undecided_by_calibration(results: list[RequirementResult], cal: dict[str, Any]) -> None:
+    """An instrument out of calibration decides nothing: every requirement becomes undecided
+    with the calibration as its reason; the values stay on the record, not judged."""
+    from speccheck.evaluation.identity import OUT_OF_CALIBRATION
+
+    if cal["status"] not in OUT_OF_CALIBRATION:
+        return
+    for res in results:
+        res.verdict = "undecided"
+        res.reason = f"calibration-{cal['status']}"
+        res.explanation = f"{cal['text']} The values are shown, not judged."
+        res.next = (
+            "have the instrument calibrated (or use one in calibration), update its instrument "
+            "file and measure again"
+        )
+
+
 def _overall(results: list[RequirementResult]) -> tuple[Verdict, str | None]:
     if not results:
         return "undecided", "more-measurements"
@@ -616,6 +643,7 @@ def evaluate(
     *,
     created: str | None = None,
     instrument: LoadedInstrument | None = None,
+    stated: Stated | None = None,
 ) -> CheckResult:
     """Check measured profiles against a loaded specification.
 
@@ -630,7 +658,12 @@ def evaluate(
         ISO 8601 UTC time stamp to record; now when None.
     instrument:
         The instrument file (:func:`speccheck.instrument.load_instrument`); its calibration
-        data give every value its own U under ``uncertainty: estimate``.
+        data give every value its own U under ``uncertainty: estimate``, and its identity
+        and calibration date go on the record.
+    stated:
+        Part serial, operator, order and note for the record; the spec's ``record.require``
+        says which must be given. ``created`` is the evaluation time the calibration age is
+        counted to when the profiles state no measurement date.
 
     Returns
     -------
@@ -649,8 +682,11 @@ def evaluate(
     ISO 4288:1996 5.2, 5.3 (acceptance rules); ISO 14253-1:2017 (decision rules); ISO 3274:1996
     Table 1 (sampling spacing).
     """
+    from speccheck.evaluation.identity import record_identity
     from speccheck.parameters.compute import compute_parameters
 
+    created = created or datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+    identity = record_identity(spec, profiles, instrument, stated, _parse_time(created))
     prepared = [_prepare(p) for p in profiles]
     reqs = apply_periodic_test(list(spec.requirements), prepared)
     conds = []
@@ -718,6 +754,7 @@ def evaluate(
         results[-1].uncertainty_budget = budget
 
     _attach_diagnostics(spec, results, conds, computed)
+    _undecided_by_calibration(results, identity["calibration"])
 
     measurements = []
     for i, (raw, p) in enumerate(zip(profiles, prepared, strict=True)):
@@ -765,7 +802,8 @@ def evaluate(
             "sampling": spec.sampling,
         },
         software={"name": "speccheck", "version": __version__},
-        created=created or datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%SZ"),
+        created=created,
+        identity=identity,
     )
 
 
@@ -776,6 +814,7 @@ def load_inputs(
     fmt: str | None = None,
     dx: Any = None,
     decimal: str = ".",
+    stated: Stated | None = None,
 ) -> tuple[LoadedSpec, list[Profile]]:
     """Load a spec file and the measured profile files (each with its SHA-256).
 
@@ -788,16 +827,26 @@ def load_inputs(
     fmt, dx, decimal:
         Passed to :func:`speccheck.readers.read_profile` (format, spacing of z-only text files
         such as ``"0.5um"``, decimal separator).
+    stated:
+        The identity stated for the record: what the spec's ``record.require`` asks for is
+        checked before any profile is read.
 
     Raises
     ------
     SpeccheckError
-        Bad spec (SpecError) or unreadable profile (InputError), naming the file and place.
+        Bad spec (SpecError) or unreadable profile (InputError), naming the file and place;
+        required identity not stated (SpecError at ``record.require``).
     """
+    from speccheck.evaluation.identity import Stated
     from speccheck.readers import read_profile
     from speccheck.spec.loader import load_spec
+    from speccheck.spec.record import missing_identity
 
     spec = load_spec(spec_path)
+    stated_fields = (stated or Stated()).to_dict()
+    error = missing_identity(spec, stated_fields, fields=("serial", "operator", "order", "note"))
+    if error is not None:
+        raise error
     # read_profile records the SHA-256 of each file's bytes in Profile.source
     profiles = [read_profile(p, fmt=fmt, dx=dx, decimal=decimal) for p in profile_paths]
     return spec, profiles
@@ -812,13 +861,17 @@ def evaluate_files(
     decimal: str = ".",
     created: str | None = None,
     instrument_path: str | Path | None = None,
+    stated: Stated | None = None,
 ) -> CheckResult:
     """Load a spec file and profile files (:func:`load_inputs`), then :func:`evaluate` them;
-    ``instrument_path`` is the instrument file for ``uncertainty: estimate``."""
-    spec, profiles = load_inputs(spec_path, profile_paths, fmt=fmt, dx=dx, decimal=decimal)
+    ``instrument_path`` is the instrument file (identity, calibration date, and the data for
+    ``uncertainty: estimate``), ``stated`` the identity stated for the record."""
+    spec, profiles = load_inputs(
+        spec_path, profile_paths, fmt=fmt, dx=dx, decimal=decimal, stated=stated
+    )
     instrument = None
     if instrument_path is not None:
         from speccheck.instrument import load_instrument
 
         instrument = load_instrument(instrument_path)
-    return evaluate(spec, profiles, created=created, instrument=instrument)
+    return evaluate(spec, profiles, created=created, instrument=instrument, stated=stated)

@@ -106,6 +106,12 @@ class CheckResult:
     software: dict[str, str]  # name, version
     created: str  # ISO 8601 UTC
     schema_version: str = SCHEMA_VERSION
+    # who measured which part on which instrument (speccheck.evaluation.identity): "serial",
+    # "operator", "order", "note" as stated; "instrument" (id, manufacturer, model, serial,
+    # version, probing_system, stylus_tip_radius, calibration_date, calibration_interval_days,
+    # calibration_certificate, file, label, sources, warnings) or None; "calibration" (status,
+    # date, as_of, as_of_source, age_days, max_age_days, max_age_source, text)
+    identity: dict[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         """The result JSON: in memory measurements count from 0, in the JSON from 1."""

@@ -31,17 +31,26 @@ __all__ = ["inspect_lot", "Progress"]
 
 Progress = Callable[[int, int], None]  # (tasks done, tasks in all)
 
-# (serial, surface, spec path, profile paths, format, dx, decimal)
-_Task = tuple[str, str, str, list[str], str | None, str | None, str]
+# (serial, surface, spec path, profile paths, format, dx, decimal, stated identity, instrument)
+_Task = tuple[str, str, str, list[str], str | None, str | None, str, dict, str | None]
 
 
 def _evaluate_task(task: _Task) -> tuple[str, Any]:
     """Worker: one surface of one part. Errors come back as data (path and place kept)."""
     from speccheck.evaluation.evaluator import evaluate_files
+    from speccheck.evaluation.identity import Stated
 
-    serial, surface, spec_path, paths, fmt, dx, decimal = task
+    serial, surface, spec_path, paths, fmt, dx, decimal, stated, instrument = task
     try:
-        result = evaluate_files(spec_path, paths, fmt=fmt, dx=dx, decimal=decimal)
+        result = evaluate_files(
+            spec_path,
+            paths,
+            fmt=fmt,
+            dx=dx,
+            decimal=decimal,
+            stated=Stated.from_dict({**stated, "serial": serial}),
+            instrument_path=instrument,
+        )
     except SpeccheckError as exc:
         return "error", (type(exc).__name__, exc.message, exc.path, exc.where)
     return "ok", result.to_dict()
@@ -63,6 +72,8 @@ def inspect_lot(
     *,
     workers: int | None = None,
     progress: Progress | None = None,
+    stated: dict[str, Any] | None = None,
+    instrument_path: str | Path | None = None,
 ) -> LotResult:
     """Evaluate the sampled parts of a lot and decide the lot.
 
@@ -76,6 +87,11 @@ def inspect_lot(
         Worker processes; ``None`` means ``os.cpu_count()``; 1 runs in this process.
     progress:
         Called with (done, total) after each finished task.
+    stated:
+        Operator, order and note for every part's record; each part's serial is the one its
+        folder names (``{part_serial}``), never stated.
+    instrument_path:
+        The instrument file every part was measured with.
 
     Returns
     -------
@@ -98,6 +114,8 @@ def inspect_lot(
             plan.fmt,
             plan.dx,
             plan.decimal,
+            dict(stated or {}),
+            str(instrument_path) if instrument_path is not None else None,
         )
         for serial, by_surface in files.items()
         for s in plan.surfaces

@@ -40,6 +40,15 @@ def _normalised(d: Any) -> Any:
     return d
 
 
+def _stated(recorded: dict[str, Any]) -> dict[str, Any]:
+    """Operator, order and note as the lot recorded them on its parts (the same on every part)."""
+    for part in recorded.get("parts") or []:
+        for check in (part.get("surfaces") or {}).values():
+            ident = check.get("identity") or {}
+            return {k: ident.get(k) for k in ("operator", "order", "note")}
+    return {}
+
+
 def _safe(rel: str) -> PurePosixPath:
     p = PurePosixPath(rel)
     if p.is_absolute() or not p.parts or any(part in ("", ".") for part in p.parts):
@@ -117,7 +126,9 @@ def verify_lot_record(
     with tempfile.TemporaryDirectory(prefix="speccheck-verify-lot-") as tmp:
         try:
             plan_path, data_dir = _rebuild(Path(tmp), manifest, files)
-            fresh = inspect_lot(load_plan(plan_path), data_dir, workers=1).to_dict()
+            fresh = inspect_lot(
+                load_plan(plan_path), data_dir, workers=1, stated=_stated(recorded)
+            ).to_dict()
         except (KeyError, ValueError) as exc:
             problems.append(f"the attachments cannot be laid out again: {exc}")
         except Exception as exc:  # SpeccheckError from the attachments: the record is broken

@@ -150,7 +150,8 @@ def profile_summary(profile: Profile) -> dict[str, Any]:
     """What a profile file holds, as plain JSON-ready values (used by ``speccheck info``).
 
     Keys: ``path``, ``format``, ``sha256``, ``points``, ``spacing_um``, ``length_mm``,
-    ``z_range_um`` (highest minus lowest valid height), ``instrument``, ``date``, ``comment``
+    ``z_range_um`` (highest minus lowest valid height), ``instrument``, ``date``, ``comment``,
+    ``instrument_identity`` (the instrument fields the file states)
     and ``dropouts`` (``invalid_points``, ``interpolated_points``, ``runs``,
     ``longest_run_points``, ``refused_gaps_mm`` as [start, end] pairs, ``usable``) as
     :func:`~speccheck.profile.fill_dropouts` would treat them.
@@ -172,6 +173,7 @@ def profile_summary(profile: Profile) -> dict[str, Any]:
         "instrument": src.instrument,
         "date": src.date,
         "comment": src.comment,
+        "instrument_identity": src.instrument_meta.stated(),
         "dropouts": {
             "invalid_points": d.invalid_points,
             "interpolated_points": d.interpolated_points,

@@ -5,6 +5,8 @@ Layout::
     # instrument: stylus 2 µm tip          (optional comment lines; these three keys are kept)
     # date: 2026-11-30
     # comment: seal seat, 0° position
+    # instrument_serial: 40712             (optional: the instrument's identity, one field a
+    # calibration_date: 2026-03-01          line; see _IDENTITY_KEYS, dates as YYYY-MM-DD)
     x [mm],z [um]                          (header: column names with units in [] or ())
     0.0000,0.1234
     0.0005,0.1301
@@ -30,7 +32,7 @@ import numpy as np
 
 from speccheck._atomic import atomic_write_text
 from speccheck.errors import InputError
-from speccheck.profile import Profile, SourceInfo
+from speccheck.profile import InstrumentMeta, Profile, SourceInfo
 from speccheck.readers._columns import (
     headerless_layout,
     layout_from_header,
@@ -51,6 +53,17 @@ __all__ = ["parse_delimited", "write_csv"]
 _WS_HEADER_TOKEN = re.compile(r"[^\s\[(]+(?:\s*[\[(][^\])]*[\])])?")
 _DECIMAL_COMMA = re.compile(r"^\s*[-+]?\d*,\d+(?:[eE][-+]?\d+)?\s*$")
 _META_KEYS = ("instrument", "date", "comment")
+# `# key: value` comment lines naming the instrument -> InstrumentMeta fields
+_IDENTITY_KEYS = {
+    "instrument_id": "id",
+    "instrument_manufacturer": "manufacturer",
+    "instrument_model": "model",
+    "instrument_serial": "serial",
+    "instrument_version": "version",
+    "probing_system": "probing_system",
+    "calibration_date": "calibration_date",
+}
+_ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
 
 
 def _separator(header: str) -> str | None:
@@ -141,7 +154,7 @@ def parse_delimited(
     del values
     dx_um = _spacing(x_um, dx, line_of, header_line, path)
     del x_um
-    source = SourceInfo(path=path, sha256=sha256, format=fmt, **meta)
+    source = _source(path, sha256, fmt, meta)
 
     def locate(i: int) -> str:
         return f"line {line_of(i)}, column {z_col + 1}"
@@ -199,18 +212,38 @@ def _header(data: bytes, meta: dict[str, str], path: str) -> tuple[str, int, int
     for number, (a, b) in enumerate(_lines(data, 0), start=1):
         line = decode_line(data[a:b], path=path, line=number, first=number == 1).strip()
         if line.startswith("#"):
-            _comment(line, meta)
+            _comment(line, meta, path=path, number=number)
         elif line:
             return line, number, b + 1
     raise InputError("no header and no data (only comment lines)", path=path)
 
 
-def _comment(line: str, meta: dict[str, str]) -> None:
-    """Keep ``# instrument: ...``, ``# date: ...``, ``# comment: ...``; ignore other comments."""
+def _comment(line: str, meta: dict[str, str], *, path: str = "", number: int = 0) -> None:
+    """Keep ``# instrument: ...``, ``# date: ...``, ``# comment: ...`` and the instrument's
+    identity (``# instrument_serial: ...``, ``# calibration_date: YYYY-MM-DD``, ...); ignore
+    other comments."""
     key, colon, value = line[1:].partition(":")
     name = key.strip().lower()
-    if colon and name in _META_KEYS and value.strip():
-        meta[name] = f"{meta[name]}; {value.strip()}" if name in meta else value.strip()
+    value = value.strip()
+    if not (colon and value):
+        return
+    if name in _IDENTITY_KEYS:
+        if name == "calibration_date" and not _ISO_DATE.fullmatch(value):
+            raise InputError(
+                f"calibration_date {value!r} is not an ISO 8601 date (YYYY-MM-DD)",
+                path=path,
+                where=f"line {number}",
+            )
+        meta[name] = value
+    elif name in _META_KEYS:
+        meta[name] = f"{meta[name]}; {value}" if name in meta else value
+
+
+def _source(path: str, sha256: str, fmt: str, meta: dict[str, str]) -> SourceInfo:
+    ident = {_IDENTITY_KEYS[k]: meta.pop(k) for k in list(meta) if k in _IDENTITY_KEYS}
+    return SourceInfo(
+        path=path, sha256=sha256, format=fmt, instrument_meta=InstrumentMeta(**ident), **meta
+    )
 
 
 _NOT_PLAIN = re.compile(rb"[#_\x80-\xff]")
@@ -291,7 +324,7 @@ def _checked_values(
     for number, (a, b) in enumerate(_lines(data, start), start=header_line + 1):
         line = decode_line(data[a:b], path=path, line=number, first=number == 1).strip()
         if line.startswith("#"):
-            _comment(line, meta)
+            _comment(line, meta, path=path, number=number)
         elif line:
             cells = line.split(sep) if sep is not None else line.split()
             values[k] = _row(cells, number, ncol, used, x_col, sep, decimal, path)
@@ -361,6 +394,9 @@ def write_csv(path: str | Path, profile: Profile) -> None:
     for key in _META_KEYS:
         value = getattr(profile.source, key)
         if value:
+            out.append(f"# {key}: {' '.join(str(value).split())}")
+    for key, attr in _IDENTITY_KEYS.items():
+        if value := getattr(profile.source.instrument_meta, attr):
             out.append(f"# {key}: {' '.join(str(value).split())}")
     out.append("x [mm],z [um]")
     x_mm = np.arange(profile.n_points) * profile.dx_um / 1e3

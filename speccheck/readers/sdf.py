@@ -16,7 +16,7 @@ import numpy as np
 
 from speccheck._atomic import atomic_write_text
 from speccheck.errors import InputError
-from speccheck.profile import Profile, SourceInfo
+from speccheck.profile import InstrumentMeta, Profile, SourceInfo
 from speccheck.readers._common import (
     MAX_POINTS,
     MAX_Z_SCALE_M,
@@ -145,6 +145,8 @@ def parse_sdf(text: str, *, path: str, sha256: str) -> Profile:
         sha256=sha256,
         format="sdf",
         instrument=manufacturer or None,
+        # ISO 25178-71 names the instrument only by ManufacID (no serial, no calibration date)
+        instrument_meta=InstrumentMeta(manufacturer=manufacturer or None),
         date=_date(header.get("CreateDate", (None, 0))[0]),
         comment=trailer.get("comment"),
     )

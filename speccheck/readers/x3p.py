@@ -26,12 +26,13 @@ import zipfile
 import zlib
 from html import escape as _html_escape
 from pathlib import Path, PurePosixPath
+from typing import Any
 
 import numpy as np
 
 from speccheck._atomic import atomic_write_bytes
 from speccheck.errors import InputError
-from speccheck.profile import Profile, SourceInfo
+from speccheck.profile import InstrumentMeta, Profile, SourceInfo
 from speccheck.readers._common import (
     MAX_ABS_HEIGHT_UM,
     MAX_POINTS,
@@ -68,6 +69,9 @@ _UM_PER_M = 1e6
 # Record2 requires a Date; write_x3p writes this when the profile has none, and the reader
 # treats it as "no date".
 _NO_DATE = "1970-01-01T00:00:00"
+_NO_PROBE = ("Software", "speccheck")
+# Record2/Instrument children (ISO 25178-72; the openGPS ISO5436_2 schema, Record2Type)
+_INSTRUMENT_KEYS = ("Manufacturer", "Model", "Serial", "Version")
 
 
 def escape(text: str) -> str:
@@ -234,8 +238,33 @@ def _check_md5(data: bytes, expected: str | None, *, path: str, where: str, what
         raise InputError(f"MD5 checksum mismatch ({what})", path=path, where=where)
 
 
-def _record2(root) -> dict[str, str]:
-    meta: dict[str, str] = {}
+def _iso_date(text: str | None) -> str | None:
+    """YYYY-MM-DD of an xsd:dateTime (the date as written, any zone kept out), else None."""
+    if text and text != _NO_DATE and re.match(r"^\d{4}-\d{2}-\d{2}(T|$)", text):
+        return text[:10]
+    return None
+
+
+def _instrument_meta(r2) -> InstrumentMeta:
+    """Record2's Instrument, CalibrationDate and ProbingSystem (ISO 25178-72), field by field.
+
+    The placeholders :func:`write_x3p` writes when it knows nothing (no calibration date, the
+    probing system 'Software'/'speccheck') read back as absent.
+    """
+    fields = {k.lower(): _text(r2, f"Instrument/{k}") for k in _INSTRUMENT_KEYS}
+    kind, ident = _text(r2, "ProbingSystem/Type"), _text(r2, "ProbingSystem/Identification")
+    probe = None
+    if ident and (kind, ident) != _NO_PROBE:
+        probe = f"{ident} ({kind})" if kind else ident
+    return InstrumentMeta(
+        **{k: v or None for k, v in fields.items()},
+        probing_system=probe,
+        calibration_date=_iso_date(_text(r2, "CalibrationDate")),
+    )
+
+
+def _record2(root) -> dict[str, Any]:
+    meta: dict[str, Any] = {}
     r2 = _find(root, "Record2")
     if r2 is None:
         return meta
@@ -252,6 +281,7 @@ def _record2(root) -> dict[str, str]:
         meta["date"] = date
     if comment := _text(r2, "Comment"):
         meta["comment"] = " ".join(comment.split())
+    meta["instrument_meta"] = _instrument_meta(r2)
     return meta
 
 
@@ -432,6 +462,27 @@ def _metres_exact(z_um: np.ndarray) -> np.ndarray:
     return m
 
 
+def _instrument_xml(src: SourceInfo) -> str:
+    """Record2's Instrument, CalibrationDate and ProbingSystem from the profile's source."""
+    im = src.instrument_meta
+    fields = {k: getattr(im, k.lower()) or "" for k in _INSTRUMENT_KEYS}
+    if not any(fields.values()):
+        fields["Manufacturer"] = src.instrument or ""
+    cal = f"{im.calibration_date}T00:00:00" if im.calibration_date else _NO_DATE
+    kind, ident = _NO_PROBE
+    if im.probing_system:
+        m = re.fullmatch(r"(.*) \((Contacting|NonContacting|Software)\)", im.probing_system)
+        kind, ident = (m.group(2), m.group(1)) if m else ("Contacting", im.probing_system)
+    return (
+        "    <Instrument>\n"
+        + "".join(f"      <{k}>{escape(v)}</{k}>\n" for k, v in fields.items())
+        + "    </Instrument>\n"
+        f"    <CalibrationDate>{cal}</CalibrationDate>\n"
+        f"    <ProbingSystem><Type>{kind}</Type><Identification>{escape(ident)}</Identification>"
+        "</ProbingSystem>\n"
+    )
+
+
 def _main_xml(
     profile: Profile,
     *,
@@ -445,7 +496,8 @@ def _main_xml(
     src = profile.source
     n = profile.n_points
     r2 = ""
-    if src.instrument or src.date or src.comment:
+    im = src.instrument_meta
+    if src.instrument or src.date or src.comment or im.stated():
         date = src.date or ""
         if re.fullmatch(r"\d{4}-\d{2}-\d{2}", date):
             date += "T00:00:00"
@@ -456,13 +508,7 @@ def _main_xml(
         r2 = (
             "  <Record2>\n"
             f"    <Date>{escape(date or _NO_DATE)}</Date>\n"
-            "    <Instrument>\n"
-            f"      <Manufacturer>{escape(src.instrument or '')}</Manufacturer>\n"
-            "      <Model></Model><Serial></Serial><Version></Version>\n"
-            "    </Instrument>\n"
-            f"    <CalibrationDate>{_NO_DATE}</CalibrationDate>\n"
-            "    <ProbingSystem><Type>Software</Type><Identification>speccheck</Identification>"
-            "</ProbingSystem>\n"
+            + _instrument_xml(src)
             + (f"    <Comment>{escape(comment)}</Comment>\n" if comment else "")
             + "  </Record2>\n"
         )

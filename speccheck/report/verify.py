@@ -162,6 +162,9 @@ def _normalised(result: dict[str, Any]) -> dict[str, Any]:
     d.pop(CHAIN_KEY, None)  # the store's state when written: not part of the evaluation
     if isinstance(d.get("spec"), dict):
         d["spec"].pop("path", None)
+    inst = (d.get("identity") or {}).get("instrument") or {}
+    if isinstance(inst.get("file"), dict):
+        inst["file"].pop("path", None)
     for m in d.get("measurements") or []:
         if isinstance(m, dict):
             m.pop("path", None)
@@ -447,11 +450,20 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
             p = d / _safe_name(e.get("original_path") or e["name"], f"profile{i + 1}")
             p.write_bytes(files[e["name"]])
             profile_paths.append(p)
+        from speccheck.evaluation.identity import Stated
+
+        inst_entry = manifest.get("instrument") or {}
+        inst_path = None
+        if inst_entry.get("name") in files:
+            inst_path = root / "instrument.yaml"
+            inst_path.write_bytes(files[inst_entry["name"]])
         try:
             again = evaluate_files(
                 spec_path,
                 profile_paths,
                 created=recorded.get("created"),
+                instrument_path=inst_path,
+                stated=Stated.from_dict(recorded.get("identity")),
                 **{k: read_options[k] for k in ("fmt", "dx", "decimal") if k in read_options},
             )
         except ReportError:
@@ -463,6 +475,8 @@ def verify_report(path: Path, *, trust: Sequence[Path] = ()) -> VerifyResult:
     if again is not None:
         fresh = again.to_dict()
         recomputed_verdict = fresh.get("verdict")
+        if "identity" not in recorded:  # written before records carried their identity
+            fresh.pop("identity", None)
         differences = compare_results(_normalised(recorded), _normalised(fresh))
         recorded_version = (recorded.get("software") or {}).get("version")
         if recorded_version and recorded_version != __version__:

@@ -27,6 +27,7 @@ __all__ = [
 ]
 
 MANIFEST_NAME = "speccheck-manifest.json"
+INSTRUMENT_NAME = "speccheck-instrument.yaml"
 RESULT_NAME = "speccheck-result.json"
 MANIFEST_KIND = "speccheck conformance record"
 MANIFEST_VERSION = 1
@@ -318,6 +319,7 @@ def write_report(
     read_options: Mapping[str, Any] | None = None,
     tsa_url: str | None = None,
     chain_head: Mapping[str, Any] | None = None,
+    instrument: Any = None,
 ) -> ReportInfo:
     """Write the conformance record of ``result`` as a self-contained, optionally signed PDF.
 
@@ -457,6 +459,11 @@ def write_report(
             for n, b, p in zip(profile_names, profile_bytes, profile_paths, strict=True)
         ],
         "read_options": read_options,
+        "instrument": (
+            {"name": INSTRUMENT_NAME, "sha256": instrument.sha256}
+            if instrument is not None
+            else None
+        ),
         "result": RESULT_NAME,
         "signer_role": signer_role,
         "demo_key": bool(demo_key),
@@ -466,6 +473,8 @@ def write_report(
         EmbeddedFile(n, b, f"profile {i}")
         for i, (n, b) in enumerate(zip(profile_names, profile_bytes, strict=True), 1)
     ]
+    if instrument is not None:
+        files.append(EmbeddedFile(INSTRUMENT_NAME, bytes(instrument.raw), "instrument file"))
     files.append(EmbeddedFile(RESULT_NAME, result_json.encode("utf-8"), "result"))
     files.append(
         EmbeddedFile(MANIFEST_NAME, json.dumps(manifest, indent=2).encode("utf-8"), "manifest")

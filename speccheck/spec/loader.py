@@ -184,6 +184,10 @@ def check_spec_bytes(raw: bytes, name: str) -> SpecCheck:
     from speccheck.spec.resolve import resolve_requirements
 
     requirements, errors = resolve_requirements(model, doc, p)
+    from speccheck.spec.record import resolve_record
+
+    record, record_errors = resolve_record(model, doc, p)
+    errors = errors + record_errors
     if errors:
         result.errors = sorted(errors, key=_sort_key)
         return result
@@ -201,5 +205,6 @@ def check_spec_bytes(raw: bytes, name: str) -> SpecCheck:
         requirements=tuple(requirements),
         sampling=model.sampling,
         uncertainty_estimate=model.uncertainty == "estimate",
+        **record,
     )
     return result

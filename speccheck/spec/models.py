@@ -16,6 +16,8 @@ __all__ = [
     "Part",
     "Measurement",
     "Diagnostics",
+    "RecordRules",
+    "IDENTITY_FIELDS",
     "RequirementFields",
     "RequirementItem",
     "SpecFile",
@@ -81,6 +83,26 @@ class Diagnostics(_Strict):
     """What to do when a value rests on a few isolated points."""
 
     isolated_features: Literal["report", "undecided"] = "report"
+
+
+#: What a spec may require every record to carry (``record.require``).
+IDENTITY_FIELDS = ("serial", "operator", "order", "note", "instrument")
+
+
+class RecordRules(_Strict):
+    """What every record of this surface must carry, and how old a calibration may be."""
+
+    require: list[Literal["serial", "operator", "order", "note", "instrument"]] = Field(
+        default_factory=list,
+        description="Identity every check must state: serial (the part's), operator, order "
+        "(purchase order or lot number), note, instrument (from the profile file or an "
+        "instrument file). A missing one is an error before anything is evaluated.",
+    )
+    max_calibration_age: ValueText | None = Field(
+        default=None,
+        description="Longest time since the instrument's last calibration, in days: '365 d'. "
+        "Older, or no calibration date known: the check is undecided.",
+    )
 
 
 class RequirementFields(_Strict):
@@ -160,6 +182,7 @@ class SpecFile(_Strict):
             "step) or 'fixed' (a sample of 12 or more values fixed in advance, 16 % of all)."
         ),
     )
+    record: RecordRules = Field(default_factory=lambda: RecordRules())
     notes: str | None = None
 
 
@@ -172,6 +195,7 @@ def model_at(path: tuple[str | int, ...]) -> type[BaseModel] | None:
             "part": Part,
             "measurement": Measurement,
             "diagnostics": Diagnostics,
+            "record": RecordRules,
         }
         return sections.get(str(path[0]))
     if len(path) == 2 and path[0] == "requirements" and isinstance(path[1], int):

@@ -143,3 +143,9 @@ class LoadedSpec:
     sampling: Literal["sequential", "fixed"] = "sequential"
     # `uncertainty: estimate`: U per value from the instrument file's calibration data
     uncertainty_estimate: bool = False
+    # `record:`: identity every record must carry, the longest calibration age (days), and
+    # where each is written ("line L, col C")
+    record_require: tuple[str, ...] = ()
+    record_require_where: str = ""
+    max_calibration_age_days: float | None = None
+    max_calibration_age_where: str = ""
