@@ -15,7 +15,15 @@ from speccheck.lot.explain import explain_plan, oc_key_points
 from speccheck.lot.lint import lint_plan
 from speccheck.lot.plan import load_plan, plan_json_schema
 
-SPEC = "spec_version: 1\npart:\n  number: T-1\n  revision: A\n  surface: face\nrequirements:\n  - Ra 0.8\n"
+SPEC = """\
+spec_version: 1
+part:
+  number: T-1
+  revision: A
+  surface: face
+requirements:
+  - Ra 0.8
+"""
 
 GOOD = """\
 plan_version: 1
@@ -53,8 +61,12 @@ def _run(capsys, *args: str) -> tuple[int, str]:
     [
         (("  size: {size}", "  size: twenty"), 6, 3, "lot.size"),  # wrong type
         (("  received:", "  colour: red\n  received:"), 7, 3, "unknown key 'colour'"),
-        (("sampling:\n  inspection_level: II\n  acceptance_number: {c}\n", ""), 1, 1,
-         "missing key 'sampling'"),
+        (
+            ("sampling:\n  inspection_level: II\n  acceptance_number: {c}\n", ""),
+            1,
+            1,
+            "missing key 'sampling'",
+        ),
         (("    spec: face.yaml", "    spec: nowhere.yaml"), 10, 5, "not found"),
         (("    measurements: 2", "    measurements: 0"), 11, 5, "measurements"),
     ],
@@ -145,8 +157,10 @@ def test_explain_demo_plan_uses_hypergeometric_oc(tmp_path):
     plan = load_plan(build_demo_lot(tmp_path / "demo", ground_profile=ground_profile))
     text = explain_plan(plan)
     pa = stats.hypergeom.cdf(1, 20, 2, 5)  # 2 of 20 nonconforming, 5 drawn, at most 1 found
-    assert f"a lot with 2 of 20 parts nonconforming is accepted with probability {100 * pa:.1f} %" \
+    assert (
+        f"a lot with 2 of 20 parts nonconforming is accepted with probability {100 * pa:.1f} %"
         in text
+    )
     assert "hypergeometric" in text
 
 

@@ -1,8 +1,9 @@
 """``speccheck lint FILE...``: errors and warnings in specification and inspection plan files.
 
 Calls :func:`speccheck.spec.lint.lint_file`, or :func:`speccheck.lot.lint.lint_plan` for a file
-with a top-level ``plan_version`` (which also lints the spec files the plan names). Prints ``FILE:LINE:COL: message`` per error and
-``FILE:LINE:COL: warning: message`` per warning; exit status 2 if any file has an error, else 0.
+with a top-level ``plan_version`` (which also lints the spec files the plan names). Prints
+``FILE:LINE:COL: message`` per error and ``FILE:LINE:COL: warning: message`` per warning; exit
+status 2 if any file has an error, else 0.
 """
 
 from __future__ import annotations
