@@ -172,3 +172,19 @@ def test_plan_schema_documents_every_field():
         assert model.get("description"), model.get("title")
         for name, field in model["properties"].items():
             assert field.get("description"), f"{model.get('title')}.{name}"
+
+
+def test_readme_documents_every_plan_key_with_the_demo_plan():
+    from speccheck.lot.demo import PLAN_YAML
+
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    section = readme.split("### Plan files", 1)[1].split("\n### ", 1)[0]
+    assert f"```yaml\n{PLAN_YAML}```" in section
+    schema = plan_json_schema()
+    keys = set(schema["properties"])
+    for prefix, ref in (("lot", "Lot"), ("data", "Data"), ("sampling", "Sampling")):
+        keys |= {f"{prefix}.{k}" for k in schema["$defs"][ref]["properties"]}
+    keys |= {f"surfaces.NAME.{k}" for k in schema["$defs"]["Surface"]["properties"]}
+    keys -= {"lot", "data", "sampling", "surfaces"}
+    missing = sorted(k for k in keys if f"`{k}`" not in section)
+    assert not missing, missing
