@@ -1,4 +1,9 @@
-"""``speccheck explain SPEC``: each requirement in plain words, with where each setting came from.
+"""``speccheck explain FILE``: a spec's requirements or an inspection plan, in plain words.
+
+For a spec: each requirement, with where each setting came from. For a plan (a file with a
+top-level ``plan_version``): lot size, ISO 2859-1 code letter, sample size, acceptance number,
+the OC curve's key points and which spec applies to which surface
+(:func:`speccheck.lot.explain.explain_plan`).
 
 Calls :func:`speccheck.spec.load_spec` and :func:`speccheck.spec.explain.explain_spec`.
 """
@@ -15,8 +20,18 @@ from speccheck.cli.options import InputPath
 def command(spec: str) -> int:
     """Explain what each requirement of SPEC asks for, and where each setting came from.
 
-    Calls speccheck.spec.explain.explain_spec.
+    Given an inspection plan, explain its sampling (code letter, n, c, OC key points) and which
+    spec applies to which surface. Calls speccheck.spec.explain.explain_spec or
+    speccheck.lot.explain.explain_plan.
     """
+    from speccheck.lot.plan import is_plan_document
+
+    if is_plan_document(spec):
+        from speccheck.lot.explain import explain_plan
+        from speccheck.lot.plan import load_plan
+
+        click.echo(explain_plan(load_plan(spec)))
+        return 0
     from speccheck.spec.explain import explain_spec
     from speccheck.spec.loader import load_spec
 

@@ -39,10 +39,13 @@ from speccheck.lot.sampling import SamplingPlan, plan_for_level, plan_for_sample
 
 __all__ = [
     "LoadedPlan",
+    "PlanCheck",
     "PlanSurface",
+    "check_plan",
+    "is_plan_document",
     "load_plan",
-    "find_part_files",
     "plan_json_schema",
+    "find_part_files",
     "DEFAULT_PATTERN",
 ]
 
@@ -59,24 +62,48 @@ def _models():
         model_config = ConfigDict(extra="forbid", frozen=True)
 
     class Lot(_Strict):
+        """The lot inspected: identity, supplier, part and lot size."""
+
         model_config = ConfigDict(extra="forbid", frozen=True, coerce_numbers_to_str=True)
-        id: str = Field(min_length=1)
-        supplier: str = Field(min_length=1)
-        part: str = Field(min_length=1)
-        size: int = Field(ge=1)
-        received: str = Field(min_length=1)
-        part_name: str | None = None
-        order: str | None = None
+        id: str = Field(min_length=1, description="Lot identifier, as on the delivery papers.")
+        supplier: str = Field(min_length=1, description="Who delivered the lot.")
+        part: str = Field(min_length=1, description="Part number of the parts in the lot.")
+        size: int = Field(ge=1, description="Lot size N: parts in the lot.")
+        received: str = Field(min_length=1, description="Date the lot was received (text).")
+        part_name: str | None = Field(None, description="Part name, for the record.")
+        order: str | None = Field(None, description="Purchase order, for the record.")
 
     class Surface(_Strict):
-        spec: str = Field(min_length=1)
-        measurements: int = Field(1, ge=1)
+        """One surface of the part: its specification and the profiles per part."""
+
+        spec: str = Field(
+            min_length=1,
+            description="Specification file of this surface, relative to the plan's folder.",
+        )
+        measurements: int = Field(
+            1, ge=1, description="Profiles measured per sampled part on this surface, at least."
+        )
 
     class Sampling(_Strict):
+        """Sampling by attributes (ISO 2859-1 single sampling): n and c."""
+
         model_config = ConfigDict(extra="forbid", frozen=True)
-        sample_size: int | None = Field(None, ge=1)
-        inspection_level: Literal["II"] | None = None
-        acceptance_number: int = Field(ge=0)
+        sample_size: int | None = Field(
+            None,
+            ge=1,
+            description="Sample size n stated directly (instead of inspection_level).",
+        )
+        inspection_level: Literal["II"] | None = Field(
+            None,
+            description=(
+                "ISO 2859-1 general inspection level (II): n from the lot size's code letter "
+                "(instead of sample_size)."
+            ),
+        )
+        acceptance_number: int = Field(
+            ge=0,
+            description="Acceptance number c: accept the lot with at most c nonconforming parts.",
+        )
 
         @model_validator(mode="after")
         def _one_way(self):
@@ -87,10 +114,22 @@ def _models():
             return self
 
     class Data(_Strict):
-        pattern: str = DEFAULT_PATTERN
-        format: Literal["csv", "tsv", "txt", "x3p", "sdf"] | None = None
-        dx: str | None = None
-        decimal: Literal[".", ","] = "."
+        """Where the profile files of the sampled parts lie, and how to read them."""
+
+        pattern: str = Field(
+            DEFAULT_PATTERN,
+            description=(
+                "Where one part's profiles of one surface lie below --data: {part_serial} once, "
+                "{surface} optional, * and ? within one folder level."
+            ),
+        )
+        format: Literal["csv", "tsv", "txt", "x3p", "sdf"] | None = Field(
+            None, description="Profile file format; by default taken from each file's extension."
+        )
+        dx: str | None = Field(
+            None, description="Sampling step with its unit (e.g. '0.5um') for files without one."
+        )
+        decimal: Literal[".", ","] = Field(".", description="Decimal mark of text profile files.")
 
         @field_validator("pattern")
         @classmethod
@@ -110,12 +149,17 @@ def _models():
             return v
 
     class PlanFile(_Strict):
-        plan_version: Literal[1]
-        lot: Lot
-        surfaces: dict[str, Surface] = Field(min_length=1)
-        sampling: Sampling
-        data: Data = Data()
-        notes: str | None = None
+        """speccheck inspection plan file, plan_version 1."""
+
+        plan_version: Literal[1] = Field(description="Version of the plan file format: 1.")
+        lot: Lot = Field(description="The lot inspected.")
+        surfaces: dict[str, Surface] = Field(
+            min_length=1,
+            description="Surface name (letters, digits, '.', '_', '-') -> its spec and profiles.",
+        )
+        sampling: Sampling = Field(description="How many parts are inspected and when to accept.")
+        data: Data = Field(Data(), description="Where the profile files lie and how to read them.")
+        notes: str | None = Field(None, description="Free text, kept in the lot record.")
 
         @field_validator("surfaces")
         @classmethod
@@ -182,6 +226,136 @@ def _key_text(path: tuple[Any, ...]) -> str:
     return out
 
 
+@dataclass
+class PlanCheck:
+    """Everything found reading one plan file: the plan when valid, every error otherwise.
+
+    ``document`` (keys with positions) is None when the YAML itself could not be read;
+    ``surface_positions`` maps each surface name to the (line, col) of its ``spec`` key.
+    """
+
+    path: str
+    plan: LoadedPlan | None
+    errors: list[SpecError]
+    document: Any = None
+    surface_positions: dict[str, tuple[int, int]] | None = None
+
+
+def _validation_errors(exc: Any, doc: Any, p: str) -> list[SpecError]:
+    """Pydantic errors as SpecErrors at their keys' positions, in file order."""
+    from speccheck.spec._yaml import where
+
+    errors: list[tuple[int, int, int, str]] = []
+    for e in exc.errors(include_url=False):
+        loc = tuple(e["loc"])
+        line, col = doc.position(loc)
+        inside = f" in {_key_text(loc[:-1])}" if len(loc) > 1 else ""
+        if e["type"] == "extra_forbidden":
+            msg = f"unknown key '{loc[-1]}'{inside}"
+        elif e["type"] == "missing":
+            msg = f"missing key '{loc[-1]}'{inside}"
+        else:
+            detail = (
+                str(e.get("ctx", {}).get("error", e["msg"]))
+                if e["type"] == "value_error"
+                else e["msg"]
+            )
+            msg = f"{_key_text(loc)}: {detail}" if loc else detail
+        errors.append((line, col, len(errors), msg))
+    return [SpecError(m, path=p, where=where(ln, c)) for ln, c, _, m in sorted(errors)]
+
+
+def check_plan(path: str | Path) -> PlanCheck:
+    """Read and validate an inspection plan file, collecting every error instead of the first.
+
+    Parameters
+    ----------
+    path:
+        The YAML file. Spec paths inside it are relative to its folder.
+
+    Returns
+    -------
+    PlanCheck
+        ``plan`` set and ``errors`` empty when the file is valid.
+
+    Raises
+    ------
+    SpecError
+        Only when the file cannot be read at all (missing, too large, not text).
+    """
+    from pydantic import ValidationError
+
+    from speccheck._atomic import note_input, read_bounded
+    from speccheck.spec._text import apply_written_text
+    from speccheck.spec._yaml import MAX_SPEC_BYTES, decode_yaml_bytes, load_yaml, where
+
+    p = str(path)
+    raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="inspection plan", error=SpecError)
+    try:
+        doc = load_yaml(decode_yaml_bytes(raw, p), p)
+    except SpecError as exc:
+        return PlanCheck(p, None, [exc])
+    if not isinstance(doc.data, dict):
+        msg = "an inspection plan is a mapping starting with 'plan_version: 1'"
+        return PlanCheck(p, None, [SpecError(msg, path=p, where=where(1, 1))], doc)
+    plan_model = _models()
+    text_errors = apply_written_text(plan_model, doc, p)
+    if text_errors:
+        return PlanCheck(p, None, list(text_errors), doc)
+    try:
+        model = plan_model.model_validate(doc.data)
+    except ValidationError as exc:
+        return PlanCheck(p, None, _validation_errors(exc, doc, p), doc)
+
+    base = Path(path).resolve().parent
+    surfaces, errors, positions = [], [], {}
+    for name, s in model.surfaces.items():
+        spec_path = (base / s.spec).resolve()
+        line, col = doc.position(("surfaces", name, "spec"))
+        positions[name] = (line, col)
+        if not spec_path.is_file():
+            errors.append(
+                SpecError(
+                    f"surfaces.{name}.spec: spec file {s.spec!r} not found (looked in {base})",
+                    path=p,
+                    where=where(line, col),
+                )
+            )
+            continue
+        note_input(spec_path, "specification")
+        surfaces.append(PlanSurface(name, spec_path, s.spec, s.measurements))
+
+    lot = model.lot.model_dump(exclude_none=True)
+    smp = model.sampling
+    try:
+        if smp.inspection_level is not None:
+            sampling = plan_for_level(
+                lot["size"], smp.acceptance_number, level=smp.inspection_level
+            )
+        else:
+            assert smp.sample_size is not None
+            sampling = plan_for_sample_size(lot["size"], smp.sample_size, smp.acceptance_number)
+    except ValueError as exc:  # a lot of one part has no ISO 2859-1 code letter
+        line, col = doc.position(("lot", "size"))
+        errors.insert(0, SpecError(f"lot.size: {exc}", path=p, where=where(line, col)))
+    if errors:
+        return PlanCheck(p, None, errors, doc, positions)
+    plan = LoadedPlan(
+        path=p,
+        sha256=hashlib.sha256(raw).hexdigest(),
+        raw=raw,
+        lot=lot,
+        surfaces=tuple(surfaces),
+        sampling=sampling,
+        pattern=model.data.pattern,
+        fmt=model.data.format,
+        dx=model.data.dx,
+        decimal=model.data.decimal,
+        notes=model.notes,
+    )
+    return PlanCheck(p, plan, [], doc, positions)
+
+
 def load_plan(path: str | Path) -> LoadedPlan:
     """Read and validate an inspection plan file.
 
@@ -198,92 +372,31 @@ def load_plan(path: str | Path) -> LoadedPlan:
     ------
     SpecError
         With ``path`` and ``where="line L, col C"``: YAML syntax, an unknown or missing key, a
-        bad value, a spec file that does not exist.
+        bad value, a spec file that does not exist (the first such error in the file).
     """
-    from pydantic import ValidationError
+    check = check_plan(path)
+    if check.errors:
+        raise check.errors[0]
+    assert check.plan is not None
+    return check.plan
 
-    from speccheck.spec._text import apply_written_text
-    from speccheck.spec._yaml import decode_yaml_bytes, load_yaml, where
+
+def is_plan_document(path: str | Path) -> bool:
+    """True when ``path`` reads as a YAML mapping with a top-level ``plan_version`` key.
+
+    Unreadable or malformed files count as not a plan (the spec reader reports them).
+    """
+    from speccheck._atomic import read_bounded
+    from speccheck.errors import SpeccheckError
+    from speccheck.spec._yaml import MAX_SPEC_BYTES, decode_yaml_bytes, load_yaml
 
     p = str(path)
-    from speccheck._atomic import note_input, read_bounded
-    from speccheck.spec._yaml import MAX_SPEC_BYTES
-
-    raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="inspection plan", error=SpecError)
-    doc = load_yaml(decode_yaml_bytes(raw, p), p)
-    if not isinstance(doc.data, dict):
-        raise SpecError(
-            "an inspection plan is a mapping starting with 'plan_version: 1'",
-            path=p,
-            where=where(1, 1),
-        )
-    plan_model = _models()
-    text_errors = apply_written_text(plan_model, doc, p)
-    if text_errors:
-        raise text_errors[0]
-    try:
-        model = plan_model.model_validate(doc.data)
-    except ValidationError as exc:
-        errors: list[tuple[int, int, int, str]] = []
-        for e in exc.errors(include_url=False):
-            loc = tuple(e["loc"])
-            line, col = doc.position(loc)
-            inside = f" in {_key_text(loc[:-1])}" if len(loc) > 1 else ""
-            if e["type"] == "extra_forbidden":
-                msg = f"unknown key '{loc[-1]}'{inside}"
-            elif e["type"] == "missing":
-                msg = f"missing key '{loc[-1]}'{inside}"
-            else:
-                detail = (
-                    str(e.get("ctx", {}).get("error", e["msg"]))
-                    if e["type"] == "value_error"
-                    else e["msg"]
-                )
-                msg = f"{_key_text(loc)}: {detail}" if loc else detail
-            errors.append((line, col, len(errors), msg))
-        line, col, _, msg = min(errors)
-        raise SpecError(msg, path=p, where=where(line, col)) from None
-
-    base = Path(path).resolve().parent
-    surfaces = []
-    for name, s in model.surfaces.items():
-        spec_path = (base / s.spec).resolve()
-        if not spec_path.is_file():
-            line, col = doc.position(("surfaces", name, "spec"))
-            raise SpecError(
-                f"surfaces.{name}.spec: spec file {s.spec!r} not found (looked in {base})",
-                path=p,
-                where=where(line, col),
-            )
-        note_input(spec_path, "specification")
-        surfaces.append(PlanSurface(name, spec_path, s.spec, s.measurements))
-
-    lot = model.lot.model_dump(exclude_none=True)
-    smp = model.sampling
-    try:
-        if smp.inspection_level is not None:
-            sampling = plan_for_level(
-                lot["size"], smp.acceptance_number, level=smp.inspection_level
-            )
-        else:
-            assert smp.sample_size is not None
-            sampling = plan_for_sample_size(lot["size"], smp.sample_size, smp.acceptance_number)
-    except ValueError as exc:  # a lot of one part has no ISO 2859-1 code letter
-        line, col = doc.position(("lot", "size"))
-        raise SpecError(f"lot.size: {exc}", path=p, where=where(line, col)) from None
-    return LoadedPlan(
-        path=p,
-        sha256=hashlib.sha256(raw).hexdigest(),
-        raw=raw,
-        lot=lot,
-        surfaces=tuple(surfaces),
-        sampling=sampling,
-        pattern=model.data.pattern,
-        fmt=model.data.format,
-        dx=model.data.dx,
-        decimal=model.data.decimal,
-        notes=model.notes,
-    )
+    try:  # the same safe reader as the loaders (no tags, bounded size and nesting)
+        raw = read_bounded(path, limit=MAX_SPEC_BYTES, role="file", error=SpecError)
+        data = load_yaml(decode_yaml_bytes(raw, p), p).data
+    except (OSError, SpeccheckError):
+        return False
+    return isinstance(data, dict) and "plan_version" in data
 
 
 def _natural_key(text: str) -> list[Any]:
