@@ -79,16 +79,30 @@ def create_app(config: BenchConfig) -> Any:
                       messages=messages)
 
     async def state_changing(request: Request) -> tuple[BenchSession | None, Any, Response | None]:
-        """The session and form of a POST, or the refusal: no session or no CSRF token."""
+        """The session and form of a POST, or the refusal: no session or no CSRF token.
+
+        The form comes back as (fields, uploads): text fields, and (file name, bytes) of every
+        ``trace`` file, each read to at most one byte over the upload limit.
+        """
         s = session_of(request)
         ctype = request.headers.get("content-type", "")
-        form = None
+        fields: dict[str, str] = {}
+        uploads: list[tuple[str, bytes]] = []
         if ctype.startswith(("multipart/form-data", "application/x-www-form-urlencoded")):
             form = await request.form(**_FORM_LIMITS)
-        given = request.headers.get("x-csrf-token") or (form.get("csrf") if form else None)
-        if s is None or not csrf_ok(s.csrf, given if isinstance(given, str) else None):
-            return None, form, PlainTextResponse(CSRF_REFUSED, status_code=403)
-        return s, form, None
+            try:
+                for k, v in form.multi_items():
+                    if isinstance(v, str):
+                        fields.setdefault(k, v)
+                    elif k == "trace":
+                        data = await v.read(config.max_upload_bytes + 1)
+                        uploads.append((v.filename or "upload", data))
+            finally:
+                await form.close()
+        given = request.headers.get("x-csrf-token") or fields.get("csrf")
+        if s is None or not csrf_ok(s.csrf, given):
+            return None, (fields, uploads), PlainTextResponse(CSRF_REFUSED, status_code=403)
+        return s, (fields, uploads), None
 
     def after(s: BenchSession, request: Request) -> Response:
         if is_fetch(request):
@@ -136,9 +150,10 @@ def create_app(config: BenchConfig) -> Any:
         s, form, refused = await state_changing(request)
         if refused:
             return refused
-        number = str(form.get("part", "")).strip() if form else ""
-        spec_name = str(form.get("spec", "")) if form else ""
-        ident = {k: str(form.get(k, "") if form else "") for k in IDENTITY}
+        fields = form[0]
+        number = fields.get("part", "").strip()
+        spec_name = fields.get("spec", "")
+        ident = {k: fields.get(k, "") for k in IDENTITY}
         return await locked(s, _choose, s, number, spec_name, ident)
 
     def _add(s: BenchSession, uploads: list[tuple[str, bytes]]) -> None:
@@ -154,9 +169,7 @@ def create_app(config: BenchConfig) -> Any:
         s, form, refused = await state_changing(request)
         if refused:
             return refused
-        files = [f for f in (form.getlist("trace") if form else []) if hasattr(f, "read")]
-        uploads = [(f.filename or "upload", await f.read(config.max_upload_bytes + 1)) for f in files]
-        await locked(s, _add, s, uploads)
+        await locked(s, _add, s, form[1])
         if is_fetch(request):
             status = 422 if s.messages else 200
             return await locked(s, bench_html, s, request, status)
