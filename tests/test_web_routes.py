@@ -106,3 +106,59 @@ def test_exposure_needs_token():
     check_exposure("127.0.0.1", None)
     with pytest.raises(SpeccheckError, match="access token"):
         check_exposure("0.0.0.0", None)
+
+
+def _more_ardent(folder: Path, n: int = 3) -> list[Path]:
+    """Three more shafts of the same demo lot: the demo generator with the catalogue's settings
+    (invented data), other seeds."""
+    import numpy as np
+
+    from speccheck.demo.data import DEMO_CATALOGUE, TRACE_FOR_CUTOFF, ground_profile
+    from speccheck.profile import Profile, SourceInfo
+    from speccheck.readers import write_x3p
+
+    entry = DEMO_CATALOGUE["kfp-2041_ardent_01"]
+    length_mm, dx_um = TRACE_FOR_CUTOFF[entry["lambda_c_mm"]]
+    out = []
+    for i in range(n):
+        z = ground_profile(
+            length_mm=length_mm, dx_um=dx_um, rng=np.random.default_rng([99, i]),
+            **entry["settings"],
+        )
+        p = folder / f"kfp-2041_ardent_more_{i + 1:02d}.x3p"
+        write_x3p(p, Profile(z_um=z, dx_um=dx_um, source=SourceInfo(format="demo")))
+        out.append(p)
+    return out
+
+
+def test_six_traces_decide_then_sign_record_and_verify(demo, tmp_path):
+    from speccheck.evaluation.evaluator import evaluate_files
+    from speccheck.records.store import RecordsStore
+    from speccheck.report import new_key, verify_report
+
+    p12 = tmp_path / "k.p12"
+    new_key(p12, name="Bench test key (throwaway)", organisation="test", passphrase=b"pw-123456")
+    cfg = BenchConfig(
+        data_dir=tmp_path / "data", specs_dir=demo / "specs", db=tmp_path / "r.db",
+        sign_p12=p12, passphrase=b"pw-123456", signer="Bench test key (throwaway)",
+    )
+    c = TestClient(create_app(cfg), base_url="http://127.0.0.1")
+    token = _open_part(c)
+    paths = [demo / "profiles" / n for n in ARDENT] + _more_ardent(tmp_path)
+    for p in paths:
+        r = c.post("/traces", data={"csrf": token}, files={"trace": (p.name, p.read_bytes())})
+    lib = evaluate_files(demo / "specs" / "k.yaml", paths)
+    assert lib.verdict != "undecided"
+    assert lib.verdict.upper() in r.text and "Sign and record" in r.text
+    r = c.post("/record", data={"csrf": token})
+    rid = int(re.search(r"Recorded as entry (\d+)", r.text).group(1))
+    pdf = c.get(f"/record/{rid}.pdf")
+    assert pdf.headers["content-type"] == "application/pdf"
+    out = tmp_path / "download.pdf"
+    out.write_bytes(pdf.content)
+    check = verify_report(out, trust=[p12.with_suffix(".pem")])
+    assert check.ok, check.problems + check.differences
+    with RecordsStore.open(tmp_path / "r.db") as store:
+        rec = store.get(rid)
+        assert rec.verdict == lib.verdict and rec.result["bench_identity"]["serial"] == "S-77"
+        assert store.audit().intact
