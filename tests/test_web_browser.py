@@ -6,9 +6,9 @@ Screenshots at 1366x768 go to $SPECCHECK_SHOTS when set (outside the repository)
 from __future__ import annotations
 
 import os
+import socket
 import subprocess
 import sys
-import socket
 import threading
 import time
 from pathlib import Path
@@ -17,8 +17,14 @@ import pytest
 
 playwright = pytest.importorskip("playwright.sync_api")
 CHROMIUM = "/usr/bin/chromium"
-ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
-        "--disable-component-update", "--disable-sync", "--no-first-run"]
+ARGS = [
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--no-first-run",
+]
 
 
 def _free_port() -> int:
@@ -29,15 +35,16 @@ def _free_port() -> int:
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory):
+    import shutil
+
     import uvicorn
 
-    from tests.test_web_routes import _more_ardent
     from speccheck.demo.data import write_demo_data
     from speccheck.demo.run import example_spec_path
     from speccheck.report import new_key
     from speccheck.web.app import create_app
     from speccheck.web.config import BenchConfig
-    import shutil
+    from tests.test_web_routes import _more_ardent
 
     root = tmp_path_factory.mktemp("browser")
     write_demo_data(root / "profiles")
@@ -47,11 +54,18 @@ def server(tmp_path_factory):
     p12 = root / "k.p12"
     new_key(p12, name="Browser test key (throwaway)", organisation="test", passphrase=b"pw-987654")
     port = _free_port()
-    cfg = BenchConfig(data_dir=root / "data", specs_dir=root / "specs", db=root / "r.db",
-                      port=port, sign_p12=p12, passphrase=b"pw-987654",
-                      signer="Browser test key (throwaway)")
-    srv = uvicorn.Server(uvicorn.Config(create_app(cfg), host="127.0.0.1", port=port,
-                                        log_level="warning"))
+    cfg = BenchConfig(
+        data_dir=root / "data",
+        specs_dir=root / "specs",
+        db=root / "r.db",
+        port=port,
+        sign_p12=p12,
+        passphrase=b"pw-987654",
+        signer="Browser test key (throwaway)",
+    )
+    srv = uvicorn.Server(
+        uvicorn.Config(create_app(cfg), host="127.0.0.1", port=port, log_level="warning")
+    )
     t = threading.Thread(target=srv.run, daemon=True)
     t.start()
     for _ in range(100):
@@ -91,8 +105,13 @@ def test_technician_flow(server, browser, tmp_path):
     page.keyboard.press("Enter")
     page.wait_for_selector("#trace")
     prof = server["root"] / "profiles"
-    page.set_input_files("#trace", [str(prof / n) for n in (
-        "kfp-2041_ardent_01.x3p", "kfp-2041_ardent_02.x3p", "kfp-2041_ardent_03.csv")])
+    page.set_input_files(
+        "#trace",
+        [
+            str(prof / n)
+            for n in ("kfp-2041_ardent_01.x3p", "kfp-2041_ardent_02.x3p", "kfp-2041_ardent_03.csv")
+        ],
+    )
     page.get_by_text("Traces (3)").wait_for(timeout=60000)
     assert "measure 3 more" in page.inner_text("#headline").lower()
     _shot(page, "02-measure-3-more")
@@ -110,9 +129,18 @@ def test_technician_flow(server, browser, tmp_path):
     dl.value.save_as(out)
     # `speccheck verify` as an auditor runs it (its own process: pyHanko runs its own loop)
     run = subprocess.run(
-        [sys.executable, "-m", "speccheck", "verify", str(out),
-         "--trust", str(server["p12"].with_suffix(".pem"))],
-        capture_output=True, text=True, timeout=120,
+        [
+            sys.executable,
+            "-m",
+            "speccheck",
+            "verify",
+            str(out),
+            "--trust",
+            str(server["p12"].with_suffix(".pem")),
+        ],
+        capture_output=True,
+        text=True,
+        timeout=120,
     )
     assert run.returncode == 0, run.stdout + run.stderr
     ctx.close()
@@ -125,8 +153,9 @@ def test_hostile_upload_and_missing_csrf(server, browser):
     page.fill("#part", "KFP-2041")
     page.keyboard.press("Enter")
     page.wait_for_selector("#trace")
-    page.set_input_files("#trace", files=[{"name": "evil.exe", "mimeType": "application/x",
-                                           "buffer": b"MZ\x90\x00"}])
+    page.set_input_files(
+        "#trace", files=[{"name": "evil.exe", "mimeType": "application/x", "buffer": b"MZ\x90\x00"}]
+    )
     page.wait_for_selector(".msg")
     assert "evil.exe: not a profile file type" in page.inner_text(".msg")
     _shot(page, "05-hostile-upload")

@@ -90,7 +90,9 @@ def test_other_host_header_refused(demo, tmp_path):
 
 def test_token_required_when_configured(demo, tmp_path):
     cfg = BenchConfig(
-        data_dir=tmp_path / "d", specs_dir=demo / "specs", db=tmp_path / "r.db",
+        data_dir=tmp_path / "d",
+        specs_dir=demo / "specs",
+        db=tmp_path / "r.db",
         token="t" * 24,
     )
     c = TestClient(create_app(cfg), base_url="http://127.0.0.1")
@@ -122,7 +124,9 @@ def _more_ardent(folder: Path, n: int = 3) -> list[Path]:
     out = []
     for i in range(n):
         z = ground_profile(
-            length_mm=length_mm, dx_um=dx_um, rng=np.random.default_rng([99, i]),
+            length_mm=length_mm,
+            dx_um=dx_um,
+            rng=np.random.default_rng([99, i]),
             **entry["settings"],
         )
         p = folder / f"kfp-2041_ardent_more_{i + 1:02d}.x3p"
@@ -139,8 +143,12 @@ def test_six_traces_decide_then_sign_record_and_verify(demo, tmp_path):
     p12 = tmp_path / "k.p12"
     new_key(p12, name="Bench test key (throwaway)", organisation="test", passphrase=b"pw-123456")
     cfg = BenchConfig(
-        data_dir=tmp_path / "data", specs_dir=demo / "specs", db=tmp_path / "r.db",
-        sign_p12=p12, passphrase=b"pw-123456", signer="Bench test key (throwaway)",
+        data_dir=tmp_path / "data",
+        specs_dir=demo / "specs",
+        db=tmp_path / "r.db",
+        sign_p12=p12,
+        passphrase=b"pw-123456",
+        signer="Bench test key (throwaway)",
     )
     c = TestClient(create_app(cfg), base_url="http://127.0.0.1")
     token = _open_part(c)

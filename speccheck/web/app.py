@@ -41,7 +41,13 @@ def create_app(config: BenchConfig) -> Any:
     from starlette.middleware import Middleware
     from starlette.middleware.trustedhost import TrustedHostMiddleware
     from starlette.requests import Request
-    from starlette.responses import FileResponse, HTMLResponse, PlainTextResponse, RedirectResponse, Response
+    from starlette.responses import (
+        FileResponse,
+        HTMLResponse,
+        PlainTextResponse,
+        RedirectResponse,
+        Response,
+    )
     from starlette.routing import Mount, Route
     from starlette.staticfiles import StaticFiles
 
@@ -75,8 +81,9 @@ def create_app(config: BenchConfig) -> Any:
     def start_html(s: BenchSession, status: int = 200) -> HTMLResponse:
         entries, problems = catalogue.scan()
         messages, s.messages = s.messages, []
-        return render("start.html", status, s=s, entries=entries, problems=problems,
-                      messages=messages)
+        return render(
+            "start.html", status, s=s, entries=entries, problems=problems, messages=messages
+        )
 
     async def state_changing(request: Request) -> tuple[BenchSession | None, Any, Response | None]:
         """The session and form of a POST, or the refusal: no session or no CSRF token.
@@ -148,8 +155,8 @@ def create_app(config: BenchConfig) -> Any:
 
     async def choose_part(request: Request) -> Response:
         s, form, refused = await state_changing(request)
-        if refused:
-            return refused
+        if refused is not None or s is None:
+            return refused or PlainTextResponse(CSRF_REFUSED, status_code=403)
         fields = form[0]
         number = fields.get("part", "").strip()
         spec_name = fields.get("spec", "")
@@ -167,8 +174,8 @@ def create_app(config: BenchConfig) -> Any:
 
     async def add_traces(request: Request) -> Response:
         s, form, refused = await state_changing(request)
-        if refused:
-            return refused
+        if refused is not None or s is None:
+            return refused or PlainTextResponse(CSRF_REFUSED, status_code=403)
         await locked(s, _add, s, form[1])
         if is_fetch(request):
             status = 422 if s.messages else 200
@@ -183,8 +190,8 @@ def create_app(config: BenchConfig) -> Any:
 
     async def act(request: Request, what: str) -> Response:
         s, _, refused = await state_changing(request)
-        if refused:
-            return refused
+        if refused is not None or s is None:
+            return refused or PlainTextResponse(CSRF_REFUSED, status_code=403)
         if what == "undo":
             await locked(s, _act, s, s.remove_last)
         elif what == "record":
@@ -211,7 +218,9 @@ def create_app(config: BenchConfig) -> Any:
         svg = await locked(s, s.plot, int(request.path_params["n"]) - 1)
         if isinstance(svg, str):
             return PlainTextResponse(svg, status_code=404)
-        return Response(svg, media_type="image/svg+xml", headers={"cache-control": "private, max-age=600"})
+        return Response(
+            svg, media_type="image/svg+xml", headers={"cache-control": "private, max-age=600"}
+        )
 
     async def record_pdf(request: Request) -> Response:
         s = session_of(request)

@@ -222,7 +222,10 @@ class BenchSession:
             return "No such trace."
         if index not in self.plots:
             self.plots[index] = profile_plot_svg(
-                self.result, self.spec.loaded if self.spec else None, self.traces[index].profile, index
+                self.result,
+                self.spec.loaded if self.spec else None,
+                self.traces[index].profile,
+                index,
             )
         return self.plots[index]
 

@@ -57,8 +57,10 @@ def _headline(result: Any, next_steps: list[str]) -> str:
 def bench_page(session: BenchSession, *, plot: int | None, signer: str | None) -> BenchPage:
     """The page model of a session (no computation: the session's result, worded)."""
     page = BenchPage(session=session)
-    page.signing = f"Records are signed by {signer}." if signer else (
-        "No signing key was given at the server's start: records are written NOT SIGNED."
+    page.signing = (
+        f"Records are signed by {signer}."
+        if signer
+        else ("No signing key was given at the server's start: records are written NOT SIGNED.")
     )
     result = session.result
     if result is None:

@@ -63,7 +63,9 @@ class AccessToken:
         self.app = app
         self.token = token
         # the cookie holds a digest, not the token itself
-        self.cookie = hashlib.sha256(b"speccheck-access:" + token.encode()).hexdigest() if token else ""
+        self.cookie = (
+            hashlib.sha256(b"speccheck-access:" + token.encode()).hexdigest() if token else ""
+        )
 
     def _cookie_ok(self, scope: Scope) -> bool:
         raw = _header(scope, b"cookie") or ""

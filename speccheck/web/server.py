@@ -72,6 +72,4 @@ def serve(config: BenchConfig, *, echo: Callable[[str], None] = print) -> None:
         echo(line)
     # a long-running server: each record lands when written, not when the command ends
     with direct_writes():
-        uvicorn.run(
-            app, host=config.host, port=config.port, log_level="warning", access_log=False
-        )
+        uvicorn.run(app, host=config.host, port=config.port, log_level="warning", access_log=False)
