@@ -50,7 +50,7 @@ def command(
 ) -> int:
     """Serve the bench page: choose a part, drop traces, see the running verdict, sign and
     record. Binds to 127.0.0.1 unless told otherwise; the signing key is unlocked here, at
-    start, and its passphrase never reaches the browser."""
+    start, and its passphrase never reaches the browser. Calls speccheck.web.server.serve."""
     from speccheck.errors import SpeccheckError
     from speccheck.records.store import default_db_path
     from speccheck.report.signing import read_passphrase
