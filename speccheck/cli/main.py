@@ -54,6 +54,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "speccheck.cli.replay",
         "Re-evaluate archived measurements under a revised spec: what would change.",
     ),
+    "serve": (
+        "speccheck.cli.serve",
+        "Serve the bench page on this computer: choose a part, drop traces, sign and record.",
+    ),
 }
 
 

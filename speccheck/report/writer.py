@@ -17,6 +17,7 @@ from speccheck.report.pdf import EmbeddedFile, render_pdf
 from speccheck.report.view import PlotView, SignatureView, build_view, features_by_measurement
 
 __all__ = [
+    "profile_plot_svg",
     "ReportInfo",
     "MANIFEST_NAME",
     "RESULT_NAME",
@@ -283,6 +284,28 @@ def _plots(
         )
         plots[m.index] = items
     return plots, notes
+
+
+def profile_plot_svg(result: Any, spec: Any, profile: Any, index: int) -> bytes | str:
+    """The profile plot of measurement ``index`` as the record draws it, or why there is none.
+
+    ``profile`` is the measured :class:`~speccheck.profile.Profile` as read (dropouts are filled
+    here, as for the record). Returns the SVG document, or a one-line note instead of a plot.
+    """
+    from speccheck.profile import fill_dropouts
+    from speccheck.report.plots import profile_svg
+
+    main, _ = _plot_conditions(spec, result)
+    if main is None:
+        return "No roughness requirement: no profile plot."
+    prof = fill_dropouts(profile) if profile.n_invalid else profile
+    try:
+        ev = profiles_for_plot(prof.z_um, dx_um=prof.dx_um, conditions=main)
+    except Exception as exc:  # a picture is never worth a failed page
+        return f"No plot: {' '.join(str(exc).split())}"
+    if ev is None:
+        return f"No plot: the trace is shorter than the {main.required_trace_mm:g} mm needed."
+    return profile_svg(ev, features=features_by_measurement(result).get(index, ()))
 
 
 def _chain_line(chain_head: Mapping[str, Any] | None) -> str:
