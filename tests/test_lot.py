@@ -63,12 +63,16 @@ def plan_text(
     )
 
 
-def sine_csv(path: Path, ra_um: float) -> None:
-    """A sine profile with Ra = ra_um: amplitude A = π·Ra/2 (Ra = 2A/π)."""
+def sine_csv(path: Path, ra_um: float, offset_um: float = 0.0) -> None:
+    """A sine profile with Ra = ra_um: amplitude A = π·Ra/2 (Ra = 2A/π).
+
+    ``offset_um`` shifts the heights (the mean line takes it, Ra is unchanged) so that each
+    profile of a lot is a distinct data set: identical heights are refused as a repeat."""
     x_mm = np.arange(N_POINTS) * DX_UM / 1e3
     amplitude = math.pi * ra_um / 2
     path.parent.mkdir(parents=True, exist_ok=True)
-    write_csv(path, Profile(z_um=amplitude * np.sin(2 * np.pi * x_mm / WAVELENGTH_MM), dx_um=DX_UM))
+    z_um = amplitude * np.sin(2 * np.pi * x_mm / WAVELENGTH_MM) + offset_um
+    write_csv(path, Profile(z_um=z_um, dx_um=DX_UM))
 
 
 # Ra per profile (3 per part). Limit "Ra 0.4", 16 % rule (ISO 4288 / ISO 1302 default):
@@ -80,9 +84,10 @@ OPEN = (0.35, 0.35, 0.45)  # 1 of the first 3 exceeds: up to 1 of 6 allowed, mea
 def build_lot(root: Path, parts: dict[str, tuple[float, ...]], *, plan: str | None = None) -> Path:
     (root / "spec.yaml").write_text(SPEC, encoding="utf-8")
     (root / "plan.yaml").write_text(plan or plan_text(), encoding="utf-8")
-    for serial, ras in parts.items():
+    for k, (serial, ras) in enumerate(parts.items()):
         for j, ra in enumerate(ras, start=1):
-            sine_csv(root / "data" / serial / "seal-seat" / f"p{j}.csv", ra)
+            offset = 1e-3 * (100 * k + j)  # distinct heights per file, same Ra
+            sine_csv(root / "data" / serial / "seal-seat" / f"p{j}.csv", ra, offset)
     return root / "plan.yaml"
 
 

@@ -203,6 +203,11 @@ def verdict_line(result: Any, *, color: bool = False) -> str:
 @color_option
 @quiet_option
 @identity_options()
+@click.option(
+    "--allow-repeat",
+    is_flag=True,
+    help="Accept profiles with identical heights (a repeatability study); the record says so.",
+)
 def command(
     spec: str,
     profiles: tuple[str, ...],
@@ -223,6 +228,7 @@ def command(
     order: str | None,
     note: str | None,
     instrument_path: str | None,
+    allow_repeat: bool = False,
 ) -> int:
     """Check measured PROFILES against the specification file SPEC.
 
@@ -249,8 +255,16 @@ def command(
     )
     instrument = _instrument(instrument_path)
     result = evaluate(loaded, measured, instrument=instrument, stated=stated)
+    repeats = refuse_repeats(
+        [m.fingerprint for m in result.measurements],
+        [f"measurement {m.index + 1} ({m.path})" for m in result.measurements],
+        allow_repeat,
+    )
     if json_out is not None:
-        write_json(result.to_dict(), json_out, document="result")
+        doc = result.to_dict()
+        if repeats:
+            doc["repeats_allowed"] = repeats
+        write_json(doc, json_out, document="result")
     talk = json_out != "-" and not quiet  # lines beyond the verdict
     if json_out != "-":
         coloured = wants_color(color)
@@ -258,6 +272,8 @@ def command(
             verdict_line(result, color=coloured) if quiet else render_table(result, color=coloured)
         )
         click.echo(text, nl=False, color=coloured)  # click strips colour off a pipe otherwise
+    for r in repeats if talk else ():  # the JSON lists them too, --quiet or not
+        click.echo(f"Repeat allowed (--allow-repeat, repeatability study): {r}.")
     report_sha256 = signer = None
     if report_out:
         options = {"fmt": fmt, "dx": dx, "decimal": decimal, "tsa_url": tsa_url}
@@ -293,6 +309,20 @@ def _instrument(path: str | None) -> Any:
     from speccheck.instrument import load_instrument
 
     return load_instrument(path)
+
+
+def refuse_repeats(prints: list[str | None], labels: list[str], allow: bool) -> list[str]:
+    """Identical heights given twice: an error, or with ``allow`` the pairs as sentences."""
+    from speccheck.evaluation.fingerprint import duplicate_pairs
+
+    pairs = duplicate_pairs([p or f"no fingerprint {i}" for i, p in enumerate(prints)])
+    said = [f"{labels[b]} has the same heights as {labels[a]}" for a, b in pairs]
+    if said and not allow:
+        raise SpeccheckError(
+            said[0]
+            + "; the same profile is counted once (--allow-repeat for a repeatability study)"
+        )
+    return said
 
 
 def _chain_head(db) -> Any:

@@ -72,6 +72,11 @@ def _chain_head(db: str | None) -> dict:
 @record_flag
 @db_option
 @click.option(
+    "--allow-repeat",
+    is_flag=True,
+    help="Accept profiles with identical heights (a repeatability study); the record says so.",
+)
+@click.option(
     "--workers",
     type=click.IntRange(min=1),
     default=None,
@@ -96,6 +101,7 @@ def command(
     order: str | None,
     note: str | None,
     instrument_path: str | None,
+    allow_repeat: bool = False,
 ) -> int:
     """Evaluate every sampled part of a lot and accept or reject the lot.
 
@@ -142,6 +148,7 @@ def command(
         )
     finally:
         stop()
+    repeats = _lot_repeats(result, allow_repeat)
     report_sha256 = signer = None
     if report_out:
         from speccheck.lot.report import write_lot_report
@@ -168,7 +175,10 @@ def command(
 
             signer = signer_identity(Path(sign_p12), passphrase).name
     if json_out:
-        write_json(result.to_dict(), json_out, document="lot")
+        doc = result.to_dict()
+        if repeats:
+            doc["repeats_allowed"] = repeats
+        write_json(doc, json_out, document="lot")
     if record:
         from speccheck.records.store import RecordsStore, default_db_path
 
@@ -183,8 +193,23 @@ def command(
     if json_out != "-" and not quiet:
         for part in result.parts:
             click.echo(f"  {part.serial:<16} {part.verdict}")
+        for r in repeats:
+            click.echo(f"repeat allowed (--allow-repeat, repeatability study): {r}")
         if result.remeasure:
             click.echo(f"measure again: {', '.join(result.remeasure)}")
         if report_out:
             click.echo(f"report written to {report_out}")
     return int(result.exit_status)
+
+
+def _lot_repeats(result, allow: bool) -> list[str]:
+    """Identical heights anywhere in the lot (across parts and surfaces): refused or listed."""
+    from speccheck.cli.check import refuse_repeats
+
+    found = [
+        (m.fingerprint, f"part {p.serial}, {name}, {m.path}")
+        for p in result.parts
+        for name, r in p.surfaces.items()
+        for m in r.measurements
+    ]
+    return refuse_repeats([f for f, _ in found], [label for _, label in found], allow)

@@ -41,6 +41,7 @@ from speccheck.evaluation.decision import (
     counts_as_exceeding,
     zone,
 )
+from speccheck.evaluation.fingerprint import height_fingerprint
 from speccheck.evaluation.periodic import apply_periodic_test
 from speccheck.evaluation.result import (
     CheckResult,
@@ -780,6 +781,7 @@ def evaluate(
                     "refused_gaps_mm": [list(g) for g in d.refused_gaps_mm],
                 },
                 parameters=found[i],
+                fingerprint=height_fingerprint(raw),
             )
         )
     verdict, reason = _overall(results)

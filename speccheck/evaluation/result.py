@@ -94,6 +94,7 @@ class MeasurementRecord:
     reason: str | None = None
     dropouts: dict[str, Any] = field(default_factory=dict)
     parameters: dict[str, dict[str, Any]] = field(default_factory=dict)  # name -> {value, unit}
+    fingerprint: str | None = None  # SHA-256 of the decoded heights (evaluation.fingerprint)
 
 
 @dataclass
