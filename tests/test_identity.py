@@ -13,6 +13,7 @@ import json
 from pathlib import Path
 
 import pytest
+from test_cli_check import profile_file
 
 from speccheck.cli.main import main
 from speccheck.evaluation.evaluator import evaluate
@@ -21,7 +22,6 @@ from speccheck.instrument import load_instrument
 from speccheck.profile import InstrumentMeta, SourceInfo
 from speccheck.readers import read_profile, write_x3p
 from speccheck.spec.loader import load_spec
-from tests.test_cli_check import profile_file
 
 SPEC = """\
 spec_version: 1

@@ -38,13 +38,13 @@ def server(tmp_path_factory):
     import shutil
 
     import uvicorn
+    from test_web_routes import _more_ardent
 
     from speccheck.demo.data import write_demo_data
     from speccheck.demo.run import example_spec_path
     from speccheck.report import new_key
     from speccheck.web.app import create_app
     from speccheck.web.config import BenchConfig
-    from tests.test_web_routes import _more_ardent
 
     root = tmp_path_factory.mktemp("browser")
     write_demo_data(root / "profiles")
