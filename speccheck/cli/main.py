@@ -32,9 +32,12 @@ COMMANDS: dict[str, tuple[str, str]] = {
     ),
     "explain": (
         "speccheck.cli.explain",
-        "Say in plain words what each requirement of a spec asks for.",
+        "Say in plain words what a spec's requirements or a lot plan's sampling ask for.",
     ),
-    "lint": ("speccheck.cli.lint", "Find mistakes and risky choices in specification files."),
+    "lint": (
+        "speccheck.cli.lint",
+        "Find mistakes and risky choices in spec files and lot plans.",
+    ),
     "schema": (
         "speccheck.cli.schema",
         "Print the JSON Schema of spec, plan or instrument files, or of a JSON output.",
