@@ -1,25 +1,20 @@
 """The JSON interface: ``schema_version`` on every document, measurements numbered from 1.
 
 The compatibility promise is stated in speccheck/schemas/__init__.py and the README. Profiles
-are sines of known Ra (closed form A·(2/N)·cot(π/N), see tests/test_cli_check.py).
+are sines of known Ra (tests/test_cli_check.py profile_file, closed form A·(2/N)·cot(π/N)).
 """
 
 from __future__ import annotations
 
 import json
-import math
 from pathlib import Path
 
-import numpy as np
+from test_cli_check import profile_file
 
 from speccheck.cli.main import main
 from speccheck.evaluation.result import CheckResult, in_current_form
-from speccheck.profile import Profile
-from speccheck.readers import write_csv
 from speccheck.schemas import SCHEMA_VERSION
 
-N = 100
-RA_PER_AMPLITUDE = (2 / N) / math.tan(math.pi / N)
 SPEC = """\
 spec_version: 1
 part: {number: KFP-2041, revision: C, surface: seal seat}
@@ -29,18 +24,10 @@ requirements:
 """
 
 
-def _profile(tmp_path, name: str, ra_um: float) -> str:
-    x_um = np.arange(11201) * 0.5
-    z = (ra_um / RA_PER_AMPLITUDE) * np.sin(2 * np.pi * x_um / 50.0)
-    path = tmp_path / f"{name}.csv"
-    write_csv(path, Profile(z, 0.5))
-    return str(path)
-
-
 def _check_json(tmp_path, capsys, ras=(0.40, 0.45)) -> dict:
     spec = tmp_path / "s.yaml"
     spec.write_text(SPEC, encoding="utf-8")
-    profiles = [_profile(tmp_path, f"p{i}", ra) for i, ra in enumerate(ras)]
+    profiles = [profile_file(tmp_path, f"p{i}", ra) for i, ra in enumerate(ras)]
     capsys.readouterr()
     main(["check", str(spec), *profiles, "--json", "-"])
     return json.loads(capsys.readouterr().out)
@@ -153,7 +140,7 @@ def _error_doc(text: str) -> dict:
 def test_a_spec_error_is_a_json_error_with_line_and_column(tmp_path, capsys):
     bad = tmp_path / "bad.yaml"
     bad.write_text("spec_version: 1\npart: [\n", encoding="utf-8")
-    p = _profile(tmp_path, "a", 0.4)
+    p = profile_file(tmp_path, "a", 0.4)
     status = main(["check", str(bad), p, "--json", "-"])
     out = capsys.readouterr()
     assert status == 2
@@ -200,9 +187,23 @@ def test_a_usage_error_with_a_json_flag(capsys):
 def test_an_error_json_never_replaces_an_input(tmp_path, capsys):
     spec = tmp_path / "s.yaml"
     spec.write_text(SPEC, encoding="utf-8")
-    p = _profile(tmp_path, "a", 0.4)
+    p = profile_file(tmp_path, "a", 0.4)
     before = Path(p).read_bytes()
     status = main(["check", str(spec), p, "--json", p])
     capsys.readouterr()
     assert status == 2
     assert Path(p).read_bytes() == before
+
+
+def test_a_json_option_that_names_a_file_is_read_from_the_command(tmp_path, capsys):
+    """`records export --json FILE` names a file (not the stdout flag of `records list`): a failed
+    export leaves standard output empty and writes no file."""
+    bad = tmp_path / "notes.sqlite"
+    bad.write_bytes(b"these are not records\n" * 10)
+    dest = tmp_path / "e.json"
+    status = main(["records", "export", "--json", str(dest), "--db", str(bad)])
+    out = capsys.readouterr()
+    assert status == 2 and out.out == "" and str(bad) in out.err
+    assert not dest.exists()
+    status = main(["records", "list", "--json", "--db", str(bad)])  # a flag: JSON on stdout
+    assert status == 2 and _error_doc(capsys.readouterr().out)["code"] == "records"

@@ -170,10 +170,6 @@ def main(argv: list[str] | None = None) -> int:
     return int(rv)
 
 
-#: Commands whose ``--json`` takes a destination (FILE or '-'); elsewhere it is a flag (stdout).
-_JSON_TAKES_A_FILE = ("check", "lot", "replay")
-
-
 def _error_dict(message: str, code: str) -> dict[str, Any]:
     return {"file": None, "line": None, "column": None, "message": message, "code": code}
 
@@ -196,7 +192,7 @@ def _fail(args: list[str], line: str, error: dict[str, Any]) -> int:
 def _json_to_stdout(args: list[str]) -> bool:
     """Whether the run was asked for JSON on standard output (``--json -``, or the flag
     ``--json`` of a command whose JSON always goes there)."""
-    takes_file = bool(args) and args[0] in _JSON_TAKES_A_FILE
+    takes_file = _json_takes_a_file(args)
     for i, a in enumerate(args):
         if a == "--":
             break
@@ -204,4 +200,24 @@ def _json_to_stdout(args: list[str]) -> bool:
             return True
         if a == "--json":
             return not takes_file or (i + 1 < len(args) and args[i + 1] == "-")
+    return False
+
+
+def _json_takes_a_file(args: list[str]) -> bool:
+    """Whether the (sub)command named at the start of ``args`` declares ``--json`` with a
+    value (FILE or '-') rather than as a flag, read from the command's own options."""
+    cmd: click.Command | None = cli
+    ctx = click.Context(cli)
+    for name in args:
+        if not isinstance(cmd, click.Group):
+            break
+        try:
+            cmd = cmd.get_command(ctx, name)
+        except Exception:  # a command that cannot even load: its error is being reported
+            return False
+        if cmd is None:
+            return False
+    for param in getattr(cmd, "params", ()):
+        if isinstance(param, click.Option) and "--json" in param.opts:
+            return not param.is_flag
     return False
