@@ -6,19 +6,14 @@ of ANSI color"). Profiles: sines of known Ra (closed form, see tests/test_cli_ch
 
 from __future__ import annotations
 
-import math
 import sys
 
-import numpy as np
 import pytest
+from test_cli_check import profile_file
 
 from speccheck.cli.main import main
 from speccheck.cli.options import wants_color
-from speccheck.profile import Profile
-from speccheck.readers import write_csv
 
-N = 100
-RA_PER_AMPLITUDE = (2 / N) / math.tan(math.pi / N)
 SPEC = """\
 spec_version: 1
 part: {number: KFP-2041, revision: C, surface: seal seat}
@@ -33,11 +28,7 @@ ESC = "\x1b["
 def inputs(tmp_path):
     spec = tmp_path / "s.yaml"
     spec.write_text(SPEC, encoding="utf-8")
-    x_um = np.arange(11201) * 0.5
-    z = (0.4 / RA_PER_AMPLITUDE) * np.sin(2 * np.pi * x_um / 50.0)
-    prof = tmp_path / "a.csv"
-    write_csv(prof, Profile(z, 0.5))
-    return str(spec), str(prof)
+    return str(spec), profile_file(tmp_path, "a", 0.4)
 
 
 def test_quiet_leaves_only_the_verdict_line(inputs, capsys, tmp_path):

@@ -154,7 +154,7 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
     console.print(table)
     for line in identity_lines(getattr(result, "identity", None) or {}):
         console.print(line)
-    console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
+    console.print(_verdict_text(result))
     for i, req in enumerate(result.requirements, start=1):
         console.print(f"#{i} {req.verdict}: {req.explanation}")
         for diag in req.diagnostics:
@@ -173,17 +173,23 @@ def render_table(result: Any, *, color: bool = False, width: int = 100) -> str:
     return "".join(line.rstrip() + "\n" for line in text.splitlines())
 
 
+def _verdict_text(result: Any) -> Any:
+    """``Result: VERDICT``, the verdict styled (colour only helps: the word carries it)."""
+    from rich.text import Text
+
+    return Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict])
+
+
 def verdict_line(result: Any, *, color: bool = False) -> str:
     """``Result: VERDICT`` alone (``--quiet``), coloured when asked for."""
     import io
 
     from rich.console import Console
-    from rich.text import Text
 
     console = Console(
         file=io.StringIO(), record=True, highlight=False, force_terminal=color, no_color=not color
     )
-    console.print(Text("Result: ") + Text(result.verdict.upper(), style=_STYLE[result.verdict]))
+    console.print(_verdict_text(result))
     return console.export_text(styles=color).rstrip() + "\n"
 
 
